@@ -199,6 +199,7 @@ TEST(SyntheticRigTest, FastReadsFollowTheSampleCountInTimestamps) {
     frame += static_cast<int64_t>(*n);
   }
   EXPECT_EQ(frame, 48000);  // duration 1 s
+  EXPECT_EQ(rig->num_pacing_sleeps(), 0u);  // a fast source never sleeps
   const SourceHealth h = rig->health();
   EXPECT_EQ(h.state, SourceState::kFinished);
   EXPECT_EQ(h.frames_delivered, 48000u);
@@ -213,6 +214,7 @@ TEST(SyntheticRigTest, RealTimeReadWaitsForTheBlockToBeDue) {
   ASSERT_TRUE(rig->start().ok());
   std::vector<float> block(2 * 80);  // 10 ms at 8 kHz
   for (int i = 0; i < 3; ++i) ASSERT_EQ(*rig->read(block, nullptr), 80u);
+  EXPECT_GE(rig->num_pacing_sleeps(), 1u);
   // Three 10 ms blocks are released no earlier than 30 ms after start.
   EXPECT_GE(base::mono_now() - before, std::chrono::milliseconds(30));
 }

@@ -109,6 +109,8 @@ class SyntheticRig final : public Source {
   int64_t next_frame() const noexcept { return frame_; }
   uint64_t num_clipped() const noexcept { return clipped_; }  // samples held at full scale
   uint64_t num_impacts() const noexcept { return impacts_; }  // defect impacts so far
+  // Times read() slept to hold real time (always 0 when fast).
+  uint64_t num_pacing_sleeps() const noexcept { return pacer_.num_sleeps(); }
 
   // Ground truth of the scenario, for tests and the demo's explanations.
   const SyntheticRigConfig& config() const noexcept { return config_; }
