@@ -2,6 +2,7 @@
 // in unit² (RMS², scipy's scaling='spectrum'); every other scale derives from it.
 #pragma once
 
+#include <cstddef>
 #include <optional>
 #include <span>
 #include <string>
@@ -24,9 +25,10 @@ bool is_power_like(SpectrumScale scale) noexcept;  // power and psd: dB uses 10�
 // not doubled in one-sided form, so their peak amplitude equals their RMS.
 // enbw_hz = ENBW_bins · fs / block.
 double power_to_scale(double power, SpectrumScale scale, double enbw_hz, bool is_edge_bin) noexcept;
-// Converts a whole power spectrum (bins 0..nfft/2) into `out` (same size).
+// Converts a whole power spectrum (bins 0..nfft/2) into `out` (same size). The last bin is
+// Nyquist (an edge bin) only when fft_length is even; fft_length 0 means 2·(size-1), even.
 void convert_power_spectrum(std::span<const float> power, SpectrumScale scale, double enbw_hz,
-                            std::span<float> out) noexcept;
+                            std::span<float> out, size_t fft_length = 0) noexcept;
 
 // dB of `value` against `reference` (> 0): 10·log10 for power-like scales, 20·log10 else.
 // Values <= 0 give -400 dB rather than -inf.
