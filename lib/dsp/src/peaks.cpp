@@ -33,6 +33,9 @@ namespace tonewarden::dsp {
 namespace {
 
 constexpr double kTableStep = 1.0 / 64.0;  // Kaiser table step, unpadded bins
+constexpr double kSkirtStep = 1.0 / 8.0;   // leakage-bound table step, unpadded bins
+constexpr double kSkirtReachBins = 256.0;  // beyond this, leakage is taken as negligible
+constexpr double kKaiserSkirtBudget = 1u << 27;  // multiply-adds spent on a Kaiser skirt
 constexpr double kRootTol = 1e-11;          // unpadded bins
 constexpr int kMaxRootIterations = 80;
 // Median of an exponential (chi-square, 2 dof) variable = ln 2 · mean: a noise bin's power
@@ -68,6 +71,10 @@ base::Result<PeakFinder> PeakFinder::create(const PeakConfig& config, const Wind
   if (config.max_peaks < 1) return invalid("max_peaks must be >= 1");
   if (!(config.min_prominence_db >= 0) || !std::isfinite(config.min_prominence_db)) {
     return invalid("min_prominence_db " + std::to_string(config.min_prominence_db) +
+                   " must be a finite value >= 0 dB");
+  }
+  if (!(config.leakage_margin_db >= 0) || !std::isfinite(config.leakage_margin_db)) {
+    return invalid("leakage_margin_db " + std::to_string(config.leakage_margin_db) +
                    " must be a finite value >= 0 dB");
   }
   if (!(config.min_spacing_hz >= 0) || !std::isfinite(config.min_spacing_hz)) {
@@ -128,9 +135,22 @@ base::Result<PeakFinder> PeakFinder::create(const PeakConfig& config, const Wind
                        ? std::max<size_t>(1, static_cast<size_t>(std::lround(0.5 * pf.pad_)))
                        : 1;
 
-  const size_t lobe_window =
-      static_cast<size_t>(std::ceil(6.0 * pf.lobe_bins_ * pf.pad_)) | size_t{1};
-  pf.floor_window_ = std::max(config.floor_window_bins, lobe_window);
+  // Leakage bound: the largest |W| at or beyond each distance, so the sidelobes between two
+  // table points are covered. Kaiser evaluates the O(N) sum here, so its reach is budgeted.
+  double reach = std::min(kSkirtReachBins, static_cast<double>(block) / 2.0);
+  if (window.cosine_terms().empty()) {
+    reach = std::min(reach, kKaiserSkirtBudget / static_cast<double>(block) * kSkirtStep);
+  }
+  const size_t skirt_points = static_cast<size_t>(reach / kSkirtStep) + 1;
+  pf.skirt_.resize(skirt_points);
+  for (size_t i = 0; i < skirt_points; ++i) {
+    pf.skirt_[i] = static_cast<float>(pf.kernel(static_cast<double>(i) * kSkirtStep));
+  }
+  for (size_t i = skirt_points - 1; i-- > 0;) pf.skirt_[i] = std::max(pf.skirt_[i], pf.skirt_[i + 1]);
+  pf.leakage_ratio_ = std::pow(10.0, config.leakage_margin_db / 10.0);
+
+  const double floor_span = std::max(static_cast<double>(config.floor_window_bins), 6.0 * pf.lobe_bins_);
+  pf.floor_window_ = static_cast<size_t>(std::ceil(floor_span * pf.pad_)) | size_t{1};
   const double bin_hz = config.sample_rate_hz / static_cast<double>(config.fft_length);
   const double resolution_hz = window.enbw_bins() * config.sample_rate_hz / static_cast<double>(block);
   pf.spacing_bins_ = (config.min_spacing_hz > 0 ? config.min_spacing_hz : resolution_hz) / bin_hz;
@@ -139,6 +159,7 @@ base::Result<PeakFinder> PeakFinder::create(const PeakConfig& config, const Wind
   pf.floor_.assign(bins, 0.0f);
   pf.scratch_.assign(pf.floor_window_, 0.0f);
   pf.candidates_.assign(bins, 0);
+  pf.merged_.assign(bins, 0);
   return pf;
 }
 
@@ -298,11 +319,31 @@ size_t PeakFinder::find(std::span<const float> power, std::span<Peak> out) noexc
             [&](size_t a, size_t b) { return power[a] > power[b]; });
 
   const size_t limit = std::min(out.size(), config_.max_peaks);
-  size_t found = 0;
+  size_t found = 0, merged = 0;
   for (size_t i = 0; i < count && found < limit; ++i) {
     const double m = static_cast<double>(candidates_[i]);
+    // Reject a maximum closer than the spacing to a stronger peak, or one that does not
+    // stand above the worst-case (coherent) sum of the sidelobe leakage of the stronger
+    // maxima: the accepted peaks and those merged away by the spacing rule (at their bin
+    // power; the margin covers their scallop loss).
     bool clear = true;
-    for (size_t j = 0; j < found && clear; ++j) clear = std::fabs(out[j].bin - m) >= spacing_bins_;
+    double leak_amp = 0;
+    auto add_leak = [&](double bin, double pw) {
+      const size_t idx = static_cast<size_t>(std::fabs(bin - m) / pad_ / kSkirtStep);
+      if (idx < skirt_.size()) leak_amp += std::sqrt(pw) * skirt_[idx];
+    };
+    for (size_t j = 0; j < found && clear; ++j) {
+      clear = std::fabs(out[j].bin - m) >= spacing_bins_;
+      add_leak(out[j].bin, out[j].power);
+    }
+    if (!clear) {
+      merged_[merged++] = candidates_[i];
+      continue;
+    }
+    for (size_t j = 0; j < merged; ++j) add_leak(static_cast<double>(merged_[j]), power[merged_[j]]);
+    if (leak_amp > 0) {
+      clear = static_cast<double>(power[candidates_[i]]) > leakage_ratio_ * leak_amp * leak_amp;
+    }
     if (!clear) continue;
     Peak peak = interpolate(power, candidates_[i]);
     peak.floor_power = floor_[candidates_[i]];

@@ -3,7 +3,9 @@
 // maximum, so it holds for any window and pad factor).
 // Detection: a local maximum whose level stands `min_prominence_db` above a robust noise
 // floor (a running median over `floor_window_bins`, converted to the mean noise power per
-// bin), at least `min_spacing_hz` from any stronger peak. find() allocates nothing.
+// bin), at least `min_spacing_hz` from any stronger peak, and standing `leakage_margin_db`
+// above the sidelobe leakage that the window predicts from every stronger peak (so the
+// sidelobes of a strong tone are not reported as tones). find() allocates nothing.
 #pragma once
 
 #include <cstddef>
@@ -28,8 +30,10 @@ struct PeakConfig {
   size_t max_peaks = 10;
   double min_prominence_db = 10.0;   // above the running-median floor
   double min_spacing_hz = 0.0;       // 0: one true resolution width
-  size_t floor_window_bins = 63;     // odd, >= 3; widened to at least 6 main-lobe
-                                     // half-widths so a tone's own lobe cannot lift its floor
+  size_t floor_window_bins = 63;     // odd, >= 3, in UNPADDED bins: the median spans
+                                     // this × fft_length/block padded bins, and at least 6
+                                     // main-lobe half-widths so a tone cannot lift its floor
+  double leakage_margin_db = 6.0;    // >= 0; see above
   double min_frequency_hz = 0.0;     // ignore below (DC region)
   double max_frequency_hz = 0.0;     // 0: up to Nyquist
 };
@@ -62,9 +66,12 @@ class PeakFinder {
   size_t floor_window_ = 63;       // effective floor window (odd)
   double spacing_bins_ = 1.0;      // min spacing in padded bins
   std::vector<double> kernel_re_, kernel_im_;  // Kaiser: tabulated transform, step kTableStep
+  std::vector<float> skirt_;       // max of |W|/|W(0)| beyond ν, step kSkirtStep (leakage bound)
+  double leakage_ratio_ = 4.0;     // 10^(leakage_margin_db/10)
   std::vector<float> floor_;       // per-bin floor
   std::vector<float> scratch_;     // median workspace
   std::vector<size_t> candidates_;
+  std::vector<size_t> merged_;     // maxima dropped by the spacing rule (still leak)
   PeakFinder(const PeakConfig& c, Window w) : config_(c), window_(std::move(w)) {}
 
   double kernel(double nu_bins) const noexcept;  // |W(ν)|/|W(0)|, table-backed for Kaiser
