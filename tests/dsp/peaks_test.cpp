@@ -3,12 +3,11 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
-#include <complex>
 #include <vector>
 
 #include "support/signals.h"
-#include "tonewarden/dsp/fft.h"
 #include "tonewarden/dsp/peaks.h"
+#include "tonewarden/dsp/spectrum_analyzer.h"
 #include "tonewarden/dsp/window.h"
 
 namespace tonewarden::dsp {
@@ -17,32 +16,31 @@ namespace {
 constexpr double kFs = 48000.0;
 constexpr size_t kBlock = 4096;
 
-// Windowed, end-padded, one-sided power spectrum, |X|²/(Σw)² doubled except DC/Nyquist.
+// The analyzer's spectrum (windowed, end-padded, one-sided power, 'spectrum' scaling).
 class Spectrum {
  public:
-  Spectrum(WindowKind kind, size_t pad)
-      : window_(*Window::create(WindowSpec{kind, 0.0}, kBlock)),
-        fft_(std::move(RealFft::create(kBlock * pad, FftPlanning::kEstimate)).value()) {}
+  Spectrum(WindowKind kind, size_t pad) : analyzer_(make(kind, pad)) {}
   std::vector<float> operator()(const std::vector<float>& x) {
-    auto in = fft_.input();
-    std::fill(in.begin(), in.end(), 0.0f);
-    for (size_t i = 0; i < kBlock; ++i) in[i] = x[i] * window_.coefficients()[i];
-    fft_.execute();
-    const auto out = fft_.output();
-    std::vector<float> p(out.size());
-    const double scale = 1.0 / (window_.sum() * window_.sum());
-    for (size_t k = 0; k < out.size(); ++k) {
-      const bool edge = k == 0 || k + 1 == out.size();
-      p[k] = static_cast<float>(std::norm(std::complex<double>(out[k])) * scale * (edge ? 1 : 2));
-    }
+    std::vector<float> p(analyzer_.num_bins());
+    EXPECT_TRUE(analyzer_.process(x, p));
     return p;
   }
-  const Window& window() const { return window_; }
-  size_t fft_length() const { return fft_.length(); }
+  const Window& window() const { return analyzer_.window(); }
+  size_t fft_length() const { return analyzer_.fft_length(); }
 
  private:
-  Window window_;
-  RealFft fft_;
+  static SpectrumAnalyzer make(WindowKind kind, size_t pad) {
+    SpectrumConfig config;
+    config.sample_rate_hz = kFs;
+    config.block = kBlock;
+    config.pad_factor = pad;
+    config.window = WindowSpec{kind, 0.0};
+    config.planning = FftPlanning::kEstimate;
+    auto analyzer = SpectrumAnalyzer::create(config);
+    EXPECT_TRUE(analyzer.ok());
+    return std::move(analyzer).value();
+  }
+  SpectrumAnalyzer analyzer_;
 };
 
 PeakFinder make_finder(const Spectrum& s, PeakConfig config = {}) {

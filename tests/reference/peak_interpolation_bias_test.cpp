@@ -15,9 +15,8 @@
 #include <vector>
 
 #include "support/signals.h"
-#include "tonewarden/dsp/fast_length.h"
-#include "tonewarden/dsp/fft.h"
 #include "tonewarden/dsp/peaks.h"
+#include "tonewarden/dsp/spectrum_analyzer.h"
 #include "tonewarden/dsp/window.h"
 
 namespace tonewarden::dsp {
@@ -30,21 +29,23 @@ constexpr int kOffsets = 21;           // tone offsets -0.5 .. +0.5 bin
 constexpr double kMaxBiasBins = 1e-3;  // project target
 constexpr double kMaxBiasDb = 1e-2;    // project target
 
-// One-sided power spectrum in the 'spectrum' scaling: |X|²/(Σw)², doubled except DC and
-// Nyquist (scipy.signal.periodogram's convention), padded at the end to fft_length.
-std::vector<float> power_spectrum(const std::vector<float>& x, const Window& w, RealFft& fft) {
-  auto in = fft.input();
-  std::fill(in.begin(), in.end(), 0.0f);
-  const auto c = w.coefficients();
-  for (size_t i = 0; i < x.size(); ++i) in[i] = x[i] * c[i];
-  fft.execute();
-  const auto out = fft.output();
-  std::vector<float> p(out.size());
-  const double scale = 1.0 / (w.sum() * w.sum());
-  for (size_t k = 0; k < out.size(); ++k) {
-    const bool edge = k == 0 || (fft.length() % 2 == 0 && k + 1 == out.size());
-    p[k] = static_cast<float>(std::norm(std::complex<double>(out[k])) * scale * (edge ? 1 : 2));
-  }
+// The analyzer's one-sided power spectrum: |X|²/(Σw)², doubled except DC and Nyquist
+// (scipy.signal.periodogram's 'spectrum' convention), end-padded to fft_length.
+SpectrumAnalyzer make_analyzer(const WindowSpec& window, size_t pad) {
+  SpectrumConfig config;
+  config.sample_rate_hz = kFs;
+  config.block = kBlock;
+  config.pad_factor = pad;
+  config.window = window;
+  config.planning = FftPlanning::kEstimate;
+  auto analyzer = SpectrumAnalyzer::create(config);
+  EXPECT_TRUE(analyzer.ok());
+  return std::move(analyzer).value();
+}
+
+std::vector<float> power_spectrum(const std::vector<float>& x, SpectrumAnalyzer& analyzer) {
+  std::vector<float> p(analyzer.num_bins());
+  EXPECT_TRUE(analyzer.process(x, p));
   return p;
 }
 
@@ -60,22 +61,19 @@ struct Bias {
 Bias worst_bias(const std::string& window_name, size_t pad) {
   const auto spec = parse_window_spec(window_name);
   EXPECT_TRUE(spec.ok());
-  const auto window = Window::create(*spec, kBlock);
-  EXPECT_TRUE(window.ok());
-  const size_t nfft = fast_length(kBlock * pad);
-  auto fft = RealFft::create(nfft, FftPlanning::kEstimate);
-  EXPECT_TRUE(fft.ok());
+  SpectrumAnalyzer analyzer = make_analyzer(*spec, pad);
+  const size_t nfft = analyzer.fft_length();
   PeakConfig config;
   config.sample_rate_hz = kFs;
   config.fft_length = nfft;
-  auto finder = PeakFinder::create(config, *window);
+  auto finder = PeakFinder::create(config, analyzer.window());
   EXPECT_TRUE(finder.ok()) << finder.error().message;
   Bias worst;
   for (int i = 0; i < kOffsets; ++i) {
     const double offset = -0.5 + static_cast<double>(i) / (kOffsets - 1);
     const double bin = kCentreBin + offset;  // unpadded bins
     const auto x = testing::make_sine(kBlock, kFs, bin * kFs / kBlock, 1.0, 0.3 + i);
-    const auto p = power_spectrum(x, *window, *fft);
+    const auto p = power_spectrum(x, analyzer);
     const Peak peak = finder->interpolate(p, argmax(p));
     const double err_bins = peak.bin * kBlock / static_cast<double>(nfft) - bin;
     const double err_db = 10.0 * std::log10(peak.power / 0.5);
@@ -103,15 +101,12 @@ TEST(PeakInterpolationBiasTest, WindowAwareFitMeetsTargetForEveryWindowAndPad) {
 // (our measurement, REFERENCES.md "Interpolating a peak"): far outside the 0.001 target, so
 // the bias sweep above can fail.
 TEST(PeakInterpolationBiasTest, ParabolaOnMagnitudeMissesTargetForHann) {
-  const auto window = Window::create(WindowSpec{WindowKind::kHann, 0.0}, kBlock);
-  ASSERT_TRUE(window.ok());
-  auto fft = RealFft::create(kBlock, FftPlanning::kEstimate);
-  ASSERT_TRUE(fft.ok());
+  SpectrumAnalyzer analyzer = make_analyzer(WindowSpec{WindowKind::kHann, 0.0}, 1);
   double worst = 0;
   for (int i = 0; i < kOffsets; ++i) {
     const double bin = kCentreBin - 0.5 + static_cast<double>(i) / (kOffsets - 1);
     const auto x = testing::make_sine(kBlock, kFs, bin * kFs / kBlock, 1.0, 0.3 + i);
-    const auto p = power_spectrum(x, *window, *fft);
+    const auto p = power_spectrum(x, analyzer);
     const size_t m = argmax(p);
     const double a = std::sqrt(p[m - 1]), b = std::sqrt(p[m]), c = std::sqrt(p[m + 1]);
     const double est = static_cast<double>(m) + 0.5 * (a - c) / (a - 2 * b + c);

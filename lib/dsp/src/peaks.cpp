@@ -306,8 +306,13 @@ size_t PeakFinder::find(std::span<const float> power, std::span<Peak> out) noexc
   const double max_hz =
       config_.max_frequency_hz > 0 ? config_.max_frequency_hz : config_.sample_rate_hz / 2.0;
   const size_t n = power.size();
-  const size_t first = std::max<size_t>(1, static_cast<size_t>(std::ceil(config_.min_frequency_hz / bin_hz)));
-  const size_t last = std::min(n - 2, static_cast<size_t>(std::floor(max_hz / bin_hz)));
+  // Within a main-lobe half-width of DC or Nyquist a maximum is the frame's residual mean
+  // (or its mirror) leaking through the window, not a resolvable tone.
+  const size_t edge = std::max<size_t>(1, static_cast<size_t>(std::ceil(lobe_bins_ * pad_)));
+  if (n < 2 * edge + 2) return 0;
+  const size_t first =
+      std::max(edge, static_cast<size_t>(std::ceil(config_.min_frequency_hz / bin_hz)));
+  const size_t last = std::min(n - 1 - edge, static_cast<size_t>(std::floor(max_hz / bin_hz)));
   const double ratio = std::pow(10.0, config_.min_prominence_db / 10.0);
 
   size_t count = 0;

@@ -5,7 +5,9 @@
 // floor (a running median over `floor_window_bins`, converted to the mean noise power per
 // bin), at least `min_spacing_hz` from any stronger peak, and standing `leakage_margin_db`
 // above the sidelobe leakage that the window predicts from every stronger peak (so the
-// sidelobes of a strong tone are not reported as tones). find() allocates nothing.
+// sidelobes of a strong tone are not reported as tones). Maxima within one main-lobe
+// half-width of DC or Nyquist are never reported (leakage of the frame's mean, or its mirror).
+// find() allocates nothing.
 #pragma once
 
 #include <cstddef>
