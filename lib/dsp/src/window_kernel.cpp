@@ -80,7 +80,10 @@ double Window::kernel_magnitude(double nu_bins) const noexcept {
                                : std::abs(cosine_sum_transform(cosine_terms_, 0.0, n));
     return std::abs(cosine_sum_transform(cosine_terms_, nu_bins, n)) / at_zero;
   }
-  return std::abs(detail::centred_transform(w_, nu_bins)) / std::fabs(sum_);
+  // Normalise by the sum of the same float table, so K(0) = 1 to rounding.
+  double dc = 0;
+  for (float v : w_) dc += static_cast<double>(v);
+  return std::abs(detail::centred_transform(w_, nu_bins)) / std::fabs(dc);
 }
 
 }  // namespace tonewarden::dsp
