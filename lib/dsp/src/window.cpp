@@ -2,6 +2,7 @@
 // plus the figures derived from them (coherent gain, ENBW, scallop loss).
 #include "tonewarden/dsp/window.h"
 
+#include <algorithm>
 #include <charconv>
 #include <cmath>
 #include <complex>
