@@ -20,6 +20,7 @@ void add(CLI::App& app, CommandRunner (*reg)(CLI::App&)) {
 
 void register_commands(CLI::App& app) {
   add(app, register_analyze_command);
+  add(app, register_check_config_command);
 }
 
 int run_selected_command(CLI::App& /*app*/) {
