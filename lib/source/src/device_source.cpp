@@ -2,7 +2,9 @@
 #include "tonewarden/source/device_source.h"
 
 #include <alsa/asoundlib.h>
+#include <fcntl.h>
 #include <portaudio.h>
+#include <unistd.h>
 
 #include <algorithm>
 #include <atomic>
@@ -37,7 +39,18 @@ base::Status pa_acquire() {
   std::lock_guard lock(g_pa_mu);
   if (g_pa_users == 0) {
     snd_lib_error_set_handler(quiet_alsa);
+    // Probing host APIs (JACK among them) prints dozens of lines to stderr; they say nothing a
+    // user can act on, so stderr is pointed at /dev/null for the duration of the probe.
+    fflush(stderr);
+    const int saved = dup(STDERR_FILENO);
+    const int devnull = open("/dev/null", O_WRONLY | O_CLOEXEC);
+    if (saved >= 0 && devnull >= 0) dup2(devnull, STDERR_FILENO);
     const PaError err = Pa_Initialize();
+    if (saved >= 0) {
+      dup2(saved, STDERR_FILENO);
+      close(saved);
+    }
+    if (devnull >= 0) close(devnull);
     if (err != paNoError) {
       return make_error(ErrorCode::kUnavailable, std::string("audio system: ") + Pa_GetErrorText(err));
     }
