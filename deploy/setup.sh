@@ -10,7 +10,7 @@ packages=(
   libcpp-httplib-dev libsqlite3-dev sqlite3 libspdlog-dev nlohmann-json3-dev
   libtomlplusplus-dev libcli11-dev libsystemd-dev libmosquitto-dev
   libgtest-dev libgmock-dev libbenchmark-dev
-  python3-numpy python3-scipy flac
+  libcurl4-openssl-dev python3-numpy python3-scipy flac
 )
 
 missing=()
