@@ -127,13 +127,19 @@ base::Result<PeakFinder> PeakFinder::create(const PeakConfig& config, const Wind
     }
     prev = k;
   }
+  // How far the tone may sit from the maximum bin: noise-free, the bin nearest the top of
+  // |W| (top offset + half a padded bin, plus margin); in noise, anywhere |W| is within ~3 %
+  // of its top. A flat-top stays that flat for almost a whole bin, so its span is ~1 bin.
+  double nu_flat = 0;
+  while (nu_flat < pf.lobe_bins_ && pf.kernel(nu_flat) >= 0.97 * best) nu_flat += kScanStep;
   const double step = 1.0 / pf.pad_;
-  pf.search_bins_ = pf.top_offset_bins_ + 0.75 * step;
-  // Where the top is not monotone, fit a pair about half a bin apart so the ratio changes
-  // fast enough with x to stand above float rounding; elsewhere the nearest neighbours do.
-  pf.ratio_step_ = pf.top_offset_bins_ > 0
-                       ? std::max<size_t>(1, static_cast<size_t>(std::lround(0.5 * pf.pad_)))
-                       : 1;
+  pf.search_bins_ = std::max(pf.top_offset_bins_ + 0.75 * step, nu_flat + 0.5 * step);
+  // The fitted pair sits about min(1, lobe/2) unpadded bins either side of the maximum,
+  // whatever the padding: far enough apart that the ratio moves fast with x (noise and
+  // float rounding matter less; a flat-top's nearest padded neighbours differ by 1e-4),
+  // near enough to stay on the main lobe, clear of its nulls.
+  const double pair_bins = std::min(1.0, 0.5 * pf.lobe_bins_);
+  pf.ratio_step_ = std::max<size_t>(1, static_cast<size_t>(std::lround(pair_bins * pf.pad_)));
 
   // Leakage bound: the largest |W| at or beyond each distance, so the sidelobes between two
   // table points are covered. Kaiser evaluates the O(N) sum here, so its reach is budgeted.
