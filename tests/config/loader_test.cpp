@@ -204,6 +204,18 @@ const std::map<std::string, std::vector<std::string>>& bad_expectations() {
         "1..10000 teeth)",
         "wrong_kind_key.toml:21:1: rig[r1].rule[r].warning: a rule needs warning, critical or preset"}},
       {"no_rig.toml", {"no_rig.toml:1:1: rig: at least one [[rig]] table is required"}},
+      {"wrong_shape.toml",
+       {"wrong_shape.toml:2:1: daemon: expected [daemon] table, got array",
+        "wrong_shape.toml:7:14: http.token_file: set token or token_file, not both",
+        "wrong_shape.toml:9:1: rig[has.dot].speed.rpm: source = \"fixed\" needs rpm (allowed: number 1..200000 rpm)",
+        "wrong_shape.toml:10:8: rig[has.dot].name: invalid rig name \"has.dot\" (allowed: 1-64 letters, digits, "
+        "'-' or '_')",
+        "wrong_shape.toml:11:54: rig[has.dot].source.sample_format: unknown value \"s24\" (allowed: s16|s32|f32)",
+        "wrong_shape.toml:13:1: rig[has.dot].channel: expected [[rig.channel]] tables, got table",
+        "wrong_shape.toml:17:11: notify.exec.command: the program \"page.sh\" must be an absolute path",
+        "wrong_shape.toml:20:7: notify.webhook.url: invalid URL \"ftp://example.invalid/hook\" (allowed: "
+        "http://... or https://...)"}},
+
       {"geometry_and_levels.toml",
        {"geometry_and_levels.toml:9:16: rig[r1].source.device_index: set device or device_index, not both",
         "geometry_and_levels.toml:13:9: rig[r1].channel[ch0].index: index 2 is beyond the source's 2 channels "

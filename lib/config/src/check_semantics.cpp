@@ -62,6 +62,12 @@ void check_names(const std::vector<Section>& list, const std::string& what, cons
 }
 
 void check_http(const Section& http, const IssueSink& sink) {
+  const bool has_token = !http.get_string("token").empty();
+  const bool has_token_file = !http.get_string("token_file").empty();
+  if (has_token && has_token_file) {
+    sink.add(http.pos_of("token_file"), key_label(http.label, "token_file"),
+             "set token or token_file, not both");
+  }
   const std::string listen = http.get_string("listen");
   const auto colon = listen.rfind(':');
   std::string host = colon == std::string::npos ? "" : listen.substr(0, colon);
@@ -73,12 +79,6 @@ void check_http(const Section& http, const IssueSink& sink) {
     sink.add(http.pos_of("listen"), key_label(http.label, "listen"), "invalid address \"" + listen + "\"",
              "HOST:PORT with port 0..65535");
     return;
-  }
-  const bool has_token = !http.get_string("token").empty();
-  const bool has_token_file = !http.get_string("token_file").empty();
-  if (has_token && has_token_file) {
-    sink.add(http.pos_of("token_file"), key_label(http.label, "token_file"),
-             "set token or token_file, not both");
   }
   if (http.get_bool("enabled") && !is_loopback(host) && !has_token && !has_token_file) {
     sink.add(http.pos_of("listen"), key_label(http.label, "listen"),
