@@ -6,7 +6,7 @@ namespace tonewarden::store {
 namespace {
 constexpr const char* kStateNames[] = {"normal", "unacknowledged", "acknowledged",
                                        "returned-unacknowledged", "shelved"};
-constexpr const char* kSeverityNames[] = {"info", "warning", "alert", "danger"};
+constexpr const char* kSeverityNames[] = {"info", "warning", "critical"};
 }  // namespace
 
 const char* to_string(AlarmState s) noexcept { return kStateNames[static_cast<int>(s)]; }
@@ -24,7 +24,7 @@ bool parse_alarm_state(const std::string& text, AlarmState* out) {
 const char* to_string(Severity s) noexcept { return kSeverityNames[static_cast<int>(s)]; }
 
 bool parse_severity(const std::string& text, Severity* out) {
-  for (int i = 0; i < 4; ++i) {
+  for (int i = 0; i < 3; ++i) {
     if (text == kSeverityNames[i]) {
       *out = static_cast<Severity>(i);
       return true;

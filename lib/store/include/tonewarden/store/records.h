@@ -42,8 +42,8 @@ enum class AlarmState { kNormal, kUnacknowledged, kAcknowledged, kReturnedUnackn
 const char* to_string(AlarmState s) noexcept;  // "normal", "unacknowledged", ...
 bool parse_alarm_state(const std::string& text, AlarmState* out);
 
-enum class Severity { kInfo, kWarning, kAlert, kDanger };
-const char* to_string(Severity s) noexcept;  // "info", "warning", "alert", "danger"
+enum class Severity { kInfo, kWarning, kCritical };
+const char* to_string(Severity s) noexcept;  // "info", "warning", "critical"
 bool parse_severity(const std::string& text, Severity* out);
 
 // One transition of one alarm; the event log is append-only.
