@@ -28,6 +28,11 @@ Pacer::Pacer(Pace pace, double sample_rate_hz)
 
 void Pacer::start(base::MonoTime anchor) noexcept { anchor_ = anchor; }
 
+void Pacer::rebase(int64_t frame, base::MonoTime at) noexcept {
+  // due_time(frame) - anchor_ is the frame's offset; put that offset before `at`.
+  anchor_ = at - (due_time(frame) - anchor_);
+}
+
 base::MonoTime Pacer::due_time(int64_t frame) const noexcept {
   // Double keeps sub-microsecond precision for years of frames at 48 kHz.
   const auto ns = static_cast<int64_t>(std::llround(static_cast<double>(frame) * ns_per_frame_));
@@ -36,18 +41,18 @@ base::MonoTime Pacer::due_time(int64_t frame) const noexcept {
 
 bool Pacer::wait_until_due(int64_t frame) {
   if (pace_ == Pace::kFast) return !stopped();
-  return sleep_until(due_time(frame));
+  return sleep_until(due_time(frame), /*pacing=*/true);
 }
 
 bool Pacer::sleep_for(std::chrono::nanoseconds duration) {
-  return sleep_until(base::mono_now() + duration);
+  return sleep_until(base::mono_now() + duration, /*pacing=*/false);
 }
 
-bool Pacer::sleep_until(base::MonoTime deadline) {
+bool Pacer::sleep_until(base::MonoTime deadline, bool pacing) {
   std::unique_lock<std::mutex> lock(mu_);
   if (stop_) return false;
   if (base::mono_now() >= deadline) return true;
-  ++sleeps_;
+  if (pacing) ++sleeps_;
   cv_.wait_until(lock, deadline, [this] { return stop_; });
   return !stop_;
 }

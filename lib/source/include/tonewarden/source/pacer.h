@@ -33,6 +33,8 @@ class Pacer {
   Pace pace() const noexcept { return pace_; }
   // Anchors frame 0 at `anchor` (default: now).
   void start(base::MonoTime anchor = base::mono_now()) noexcept;
+  // Re-anchors so that `frame` is due at `at` (after an idle gap that is not signal).
+  void rebase(int64_t frame, base::MonoTime at = base::mono_now()) noexcept;
   // Returns once frame `frame` is due (immediately for kFast, or when already late).
   // Returns false if stop() was called before or during the wait.
   bool wait_until_due(int64_t frame);
@@ -44,11 +46,11 @@ class Pacer {
 
   // Monotonic instant at which `frame` is due.
   base::MonoTime due_time(int64_t frame) const noexcept;
-  // Waits that actually slept (0 for a fast pacer, ever).
+  // Pacing waits that actually slept (0 for a fast pacer, ever); sleep_for() not counted.
   uint64_t num_sleeps() const noexcept { return sleeps_; }
 
  private:
-  bool sleep_until(base::MonoTime deadline);
+  bool sleep_until(base::MonoTime deadline, bool pacing);
 
   Pace pace_;
   double ns_per_frame_;
