@@ -9,32 +9,10 @@
 #include <vector>
 
 #include "support/signals.h"
-#include "tonewarden/dsp/spectrum_analyzer.h"
+#include "track/analyzed_spectrum.h"
 
 namespace tonewarden::track {
 namespace {
-
-struct Analyzed {
-  SpectrumLayout layout;
-  std::vector<float> power;
-};
-
-Analyzed analyze(const std::vector<float>& x, double fs, size_t block, size_t pad,
-                 dsp::WindowKind window = dsp::WindowKind::kHann) {
-  dsp::SpectrumConfig sc;
-  sc.sample_rate_hz = fs;
-  sc.block = block;
-  sc.pad_factor = pad;
-  sc.window.kind = window;
-  sc.planning = dsp::FftPlanning::kEstimate;
-  auto analyzer = dsp::SpectrumAnalyzer::create(sc);
-  EXPECT_TRUE(analyzer.ok());
-  Analyzed a;
-  a.power.resize(analyzer->num_bins());
-  EXPECT_TRUE(analyzer->process(std::span<const float>(x).first(block), a.power));
-  a.layout = {fs, block, analyzer->fft_length(), sc.window};
-  return a;
-}
 
 double value(const ReadingSet& set, const std::string& name) {
   const auto i = set.find(name);
@@ -60,7 +38,7 @@ TEST_P(ToneAmplitudeTest, OffBinToneReadsItsConstructedPower) {
   const double fs = 48000.0, f = 1234.567, a = 0.8;
   auto x = testing::make_sine(8192, fs, f, a);
   testing::add_sine(x, fs, 1300.0, 2.0);  // stronger, but outside the ±1 % window
-  const Analyzed s = analyze(x, fs, 8192, pad, window);
+  const AnalyzedSpectrum s = analyze(x, fs, 8192, pad, window);
   ChannelTrackConfig config;
   config.channel = "de";
   config.unit = "Pa";  // not an acceleration: no velocity reading
@@ -94,7 +72,7 @@ TEST(ChannelTrackerTest, MeshTargetReadsHarmonicsAndSpeedSidebands) {
   testing::add_sine(x, fs, 360.0, 0.5);
   testing::add_sine(x, fs, 150.0, 0.2);
   testing::add_sine(x, fs, 210.0, 0.1);
-  const Analyzed s = analyze(x, fs, 16384, 1);
+  const AnalyzedSpectrum s = analyze(x, fs, 16384, 1);
   ChannelTrackConfig config;
   config.channel = "gear";
   config.unit = "m/s2";
@@ -129,7 +107,7 @@ TEST(ChannelTrackerTest, VelocityRmsOfOneGAtOneHundredHz) {
   // REFERENCES.md [V]: 1 g peak at 100 Hz -> 11.036359 mm/s RMS (9.80665/(2π·100)/√2 m/s).
   const double fs = 8192.0;
   const auto x = testing::make_sine(16384, fs, 100.0, 1.0);
-  const Analyzed s = analyze(x, fs, 16384, 1);
+  const AnalyzedSpectrum s = analyze(x, fs, 16384, 1);
   ChannelTrackConfig config;
   config.channel = "de";
   config.unit = "g";
@@ -158,7 +136,7 @@ TEST(ChannelTrackerTest, BearingTargetUsesGeometryOrders) {
   // (REFERENCES.md [V]); at 1797 rpm that is 107.3643 Hz.
   const double fs = 8192.0;
   auto x = testing::make_sine(16384, fs, 107.3643 * 1.01, 0.3);  // 1 % slip
-  const Analyzed s = analyze(x, fs, 16384, 2);
+  const AnalyzedSpectrum s = analyze(x, fs, 16384, 2);
   ChannelTrackConfig config;
   config.channel = "de";
   config.unit = "g";

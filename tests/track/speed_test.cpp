@@ -9,7 +9,7 @@
 #include <vector>
 
 #include "support/signals.h"
-#include "tonewarden/dsp/spectrum_analyzer.h"
+#include "track/analyzed_spectrum.h"
 
 namespace tonewarden::track {
 namespace {
@@ -114,27 +114,6 @@ TEST(SpeedFromTachTest, RejectsBadConfig) {
   EXPECT_FALSE(SpeedFromTach::create(config).ok());
 }
 
-struct Spectrum {
-  SpectrumLayout layout;
-  std::vector<float> power;
-};
-
-// One Hann spectrum (block 16384 at 8192 Hz, padded ×2) of `x` through dsp.
-Spectrum spectrum_of(const std::vector<float>& x, double fs, size_t block, size_t pad) {
-  dsp::SpectrumConfig sc;
-  sc.sample_rate_hz = fs;
-  sc.block = block;
-  sc.pad_factor = pad;
-  sc.planning = dsp::FftPlanning::kEstimate;
-  auto analyzer = dsp::SpectrumAnalyzer::create(sc);
-  EXPECT_TRUE(analyzer.ok());
-  Spectrum s;
-  s.power.resize(analyzer->num_bins());
-  EXPECT_TRUE(analyzer->process(std::span<const float>(x).first(block), s.power));
-  s.layout = {fs, block, analyzer->fft_length(), sc.window};
-  return s;
-}
-
 TEST(SpeedFromSpectrumTest, PicksThePeakConfirmedByHarmonicsNotTheStrongest) {
   const double fs = 8192.0, f1 = 1797.0 / 60.0;
   auto x = testing::make_sine(16384, fs, f1, 1.0);
@@ -142,7 +121,7 @@ TEST(SpeedFromSpectrumTest, PicksThePeakConfirmedByHarmonicsNotTheStrongest) {
   testing::add_sine(x, fs, 3 * f1, 0.3);
   testing::add_sine(x, fs, 45.0, 2.0);  // stronger, but alone: not a shaft speed
   testing::add_gaussian_noise(x, 0.01, 3);
-  const Spectrum s = spectrum_of(x, fs, 16384, 2);
+  const AnalyzedSpectrum s = analyze(x, fs, 16384, 2);
   SpectralSpeedConfig config;
   config.min_rpm = 1200.0;
   config.max_rpm = 3600.0;
@@ -159,7 +138,7 @@ TEST(SpeedFromSpectrumTest, UnconfirmedPeakLeavesSpeedUnknown) {
   const double fs = 8192.0;
   auto x = testing::make_sine(16384, fs, 45.0, 2.0);
   testing::add_gaussian_noise(x, 0.01, 4);
-  const Spectrum s = spectrum_of(x, fs, 16384, 2);
+  const AnalyzedSpectrum s = analyze(x, fs, 16384, 2);
   SpectralSpeedConfig config;
   config.min_rpm = 1200.0;
   config.max_rpm = 3600.0;

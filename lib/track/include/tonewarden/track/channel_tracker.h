@@ -47,7 +47,9 @@ struct ChannelInput {
 
 class ChannelTracker {
  public:
-  // Validates, allocates, and registers this channel's readings in `readings`.
+  // Validates, allocates, and registers this channel's readings in `readings`. Config errors
+  // register nothing; a name clash with readings already in the set (e.g. the same channel
+  // twice) fails part-way, so discard that set.
   static base::Result<ChannelTracker> create(const ChannelTrackConfig& config,
                                              ReadingSet& readings);
 
