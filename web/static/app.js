@@ -1,0 +1,173 @@
+// Dashboard wiring: configuration, polling and the event stream, alarms, health, notes.
+"use strict";
+const SEV_SHAPE = { critical: "◆ critical", warning: "▲ warning", none: "–" };
+let cfg = null;
+
+async function loadConfig() {
+  cfg = await api.get("/api/v1/config");
+  const sel = document.getElementById("channel");
+  sel.innerHTML = "";
+  for (const c of cfg.channels) {
+    const o = document.createElement("option");
+    o.value = c.id; o.textContent = c.id + " (" + c.unit + ")";
+    sel.appendChild(o);
+  }
+  document.getElementById("rig-summary").textContent =
+    cfg.rigs.map((r) => r.id + (r.description ? " — " + r.description : "")).join(" · ");
+  const series = await api.get("/api/v1/series");
+  const ss = document.getElementById("series");
+  ss.innerHTML = "";
+  const names = series.series.slice().sort();
+  const preferred = names.find((n) => /velocity_rms$/.test(n)) || names[0];
+  for (const n of names) {
+    const o = document.createElement("option");
+    o.value = n; o.textContent = n; o.selected = n === preferred;
+    ss.appendChild(o);
+  }
+}
+
+async function refreshSpectrum() {
+  const ch = document.getElementById("channel").value;
+  if (!ch) return;
+  try {
+    const s = await api.get("/api/v1/spectrum?channel=" + encodeURIComponent(ch) + "&points=1200");
+    spectrumView.update(s);
+    spectrogramView.push(s);
+    document.getElementById("spectrum-meta").textContent =
+      fmtTime(s.t) + " · bin " + fmtNum(s.bin_hz, 3) + " Hz · resolution " + fmtNum(s.resolution_hz, 3) +
+      " Hz · " + s.scaling.replace("_", " ");
+    document.getElementById("peak-list").textContent = "peaks: " + (s.peaks || []).slice(0, 6)
+      .map((p) => fmtNum(p.frequency_hz, 2) + " Hz " + fmtNum(p.amplitude) + " " + s.unit).join(" · ");
+  } catch (e) {
+    document.getElementById("spectrum-meta").textContent = e.status === 503 ? "waiting for the first spectrum…" : e.message;
+  }
+}
+
+function cell(tr, text, cls) {
+  const td = document.createElement("td");
+  td.textContent = text;
+  if (cls) td.className = cls;
+  tr.appendChild(td);
+  return td;
+}
+
+async function refreshAlarms() {
+  let list;
+  try { list = (await api.get("/api/v1/alarms")).alarms; } catch (e) { return; }
+  const body = document.getElementById("alarm-rows");
+  body.innerHTML = "";
+  // Abnormal first: unacknowledged, then acknowledged, returned, shelved; normal ones last.
+  const order = { unacknowledged: 0, acknowledged: 1, returned_unacknowledged: 2, shelved: 3, normal: 4 };
+  list.sort((a, b) => (order[a.state] - order[b.state]) || a.id.localeCompare(b.id));
+  let active = 0, unack = 0, worst = "none";
+  for (const a of list) {
+    if (a.state !== "normal") active++;
+    if (a.state === "unacknowledged" || a.state === "returned_unacknowledged") unack++;
+    if (a.state !== "normal" && a.state !== "shelved" && a.severity === "critical") worst = "critical";
+    else if (a.state !== "normal" && a.state !== "shelved" && a.severity === "warning" && worst !== "critical") worst = "warning";
+    if (a.state === "normal" && list.length > 12) continue;  // keep the list short
+    const tr = document.createElement("tr");
+    tr.dataset.alarm = a.id;
+    cell(tr, SEV_SHAPE[a.severity] || a.severity, "sev-" + a.severity);
+    cell(tr, a.state.replace(/_/g, " "), "state-" + a.state);
+    cell(tr, a.id, a.message ? "held" : "").title = a.message || a.series;
+    cell(tr, fmtNum(a.value));
+    cell(tr, fmtTime(a.since));
+    const td = cell(tr, "");
+    if (a.state === "unacknowledged" || a.state === "returned_unacknowledged") {
+      const b = document.createElement("button");
+      b.textContent = "Acknowledge"; b.className = "ack";
+      b.onclick = () => act(a.id, "acknowledge", { user: "dashboard", comment: "acknowledged on the dashboard" });
+      td.appendChild(b);
+    }
+    if (a.state !== "shelved" && a.state !== "normal") {
+      const b = document.createElement("button");
+      b.textContent = "Shelve 1 h"; b.className = "shelve";
+      b.onclick = () => act(a.id, "shelve", { user: "dashboard", duration_s: 3600, comment: "shelved on the dashboard" });
+      td.appendChild(b);
+    }
+    body.appendChild(tr);
+  }
+  document.getElementById("alarm-count").textContent = active + " active, " + unack + " unacknowledged";
+  const sum = document.getElementById("alarm-summary");
+  sum.textContent = worst === "none" ? "no active alarms" : SEV_SHAPE[worst] + " · " + active + " active";
+  sum.className = "summary sev-" + worst;
+}
+
+async function act(id, verb, body) {
+  const msg = document.getElementById("action-msg");
+  const tok = document.getElementById("token").value.trim();
+  if (tok) api.setToken(tok);
+  try {
+    await api.post("/api/v1/alarms/" + encodeURIComponent(id) + "/" + verb, body);
+    msg.textContent = verb + " sent for " + id;
+    setTimeout(refreshAlarms, 400);
+  } catch (e) {
+    msg.textContent = e.status === 401 ? "the API token is missing or wrong (see the daemon's start-up log)" : e.message;
+  }
+}
+
+async function refreshHealth() {
+  let st;
+  try { st = await api.get("/api/v1/status"); } catch (e) { return; }
+  const body = document.getElementById("health-rows");
+  body.innerHTML = "";
+  const row = (k, v, bad) => { const tr = document.createElement("tr"); cell(tr, k); cell(tr, v, bad ? "bad" : ""); body.appendChild(tr); };
+  for (const s of st.sources) {
+    row(s.name + " source", s.state + (s.detail ? " — " + s.detail : ""), s.state === "lost");
+    row(s.name + " frames analysed", String(s.frames));
+    row(s.name + " overflows / gaps", s.overflows + " / " + s.drops, s.overflows > 0);
+  }
+  try {
+    const rd = (await api.get("/api/v1/readings")).readings;
+    for (const r of rd) {
+      if (r.metric === "clipped_samples") row(r.channel + " clipped samples", fmtNum(r.value, 0), r.value > 0);
+      if (r.metric === "rms") row(r.channel + " RMS", fmtNum(r.value) + " " + r.unit);
+      if (r.metric === "velocity_rms") row(r.channel + " velocity RMS", fmtNum(r.value, 2) + " " + r.unit);
+      if (r.metric === "speed_rpm") row("speed", fmtNum(r.value, 1) + " rpm");
+    }
+  } catch (e) { /* readings not ready yet */ }
+  row("storage", st.storage.state + (st.storage.detail ? " — " + st.storage.detail : ""), st.storage.state !== "ok");
+}
+
+function startStream() {
+  const es = new EventSource("/api/v1/stream");
+  es.addEventListener("alarm", () => refreshAlarms());
+  es.onerror = () => { /* the browser reconnects by itself */ };
+}
+
+async function main() {
+  spectrumView.build(document.getElementById("spectrum"));
+  spectrogramView.init(document.getElementById("spectrogram"));
+  trendView.build(document.getElementById("trend"));
+  document.getElementById("token").value = api.token();
+  document.getElementById("log-x").onchange = (e) => { spectrumView.logX = e.target.checked; spectrumView.build(document.getElementById("spectrum")); refreshSpectrum(); };
+  document.getElementById("log-y").onchange = (e) => { spectrumView.logY = e.target.checked; spectrumView.build(document.getElementById("spectrum")); refreshSpectrum(); };
+  document.getElementById("channel").onchange = () => refreshSpectrum();
+  document.getElementById("series").onchange = () => { trendView.toMs = null; trendView.load(); };
+  for (const b of document.querySelectorAll("[data-span]")) {
+    b.onclick = () => { trendView.spanS = Number(b.dataset.span); trendView.toMs = null; trendView.load(); };
+  }
+  document.getElementById("pan-left").onclick = () => trendView.pan(-1);
+  document.getElementById("pan-right").onclick = () => trendView.pan(1);
+  document.getElementById("note-add").onclick = async () => {
+    const text = document.getElementById("note-text").value.trim();
+    const tok = document.getElementById("token").value.trim();
+    if (tok) api.setToken(tok);
+    if (!text) return;
+    try {
+      await api.post("/api/v1/annotations", { text, user: "dashboard", rig: cfg && cfg.rigs[0] ? cfg.rigs[0].id : "" });
+      document.getElementById("note-text").value = "";
+      trendView.load();
+    } catch (e) { document.getElementById("trend-meta").textContent = "note: " + e.message; }
+  };
+  setInterval(() => { document.getElementById("clock").textContent = new Date().toISOString().slice(0, 19) + "Z"; }, 1000);
+  try { await loadConfig(); } catch (e) { document.getElementById("rig-summary").textContent = "cannot read the configuration: " + e.message; }
+  refreshSpectrum(); refreshAlarms(); refreshHealth(); trendView.load();
+  setInterval(refreshSpectrum, 1000);
+  setInterval(refreshAlarms, 3000);
+  setInterval(refreshHealth, 3000);
+  setInterval(() => { if (!trendView.toMs) trendView.load(); }, 15000);
+  startStream();
+}
+main();

@@ -1,0 +1,77 @@
+// Trends: min/mean/max over a time range (rollups for long ranges), with zoom and pan,
+// alarm events and annotations drawn as vertical marks.
+"use strict";
+const trendView = {
+  plot: null, spanS: 3600, toMs: null, events: [], notes: [], series: [],
+  build(el) {
+    const self = this;
+    const opts = {
+      width: el.clientWidth || 900, height: 260,
+      scales: { x: { time: true } },
+      axes: [{ stroke: "#2b2f33" }, { stroke: "#2b2f33", size: 70 }],
+      series: [{}, { label: "max", stroke: "#8a96a3", width: 1 }, { label: "mean", stroke: "#34495e", width: 1.5 },
+        { label: "min", stroke: "#8a96a3", width: 1 }],
+      cursor: { drag: { x: true, y: false } },
+      hooks: {
+        draw: [(u) => self.drawMarks(u)],
+        setSelect: [(u) => {
+          if (u.select.width < 5) return;
+          const a = u.posToVal(u.select.left, "x"), b = u.posToVal(u.select.left + u.select.width, "x");
+          self.spanS = Math.max(60, b - a); self.toMs = b * 1000; self.load();
+        }],
+      },
+    };
+    this.plot = new uPlot(opts, [[], [], [], []], el);
+    new ResizeObserver(() => this.plot.setSize({ width: el.clientWidth, height: 260 })).observe(el);
+  },
+  async load() {
+    const sel = document.getElementById("series");
+    const name = sel.value;
+    if (!name) return;
+    const to = this.toMs ? new Date(this.toMs) : new Date();
+    const from = new Date(to.getTime() - this.spanS * 1000);
+    const q = "from=" + from.toISOString() + "&to=" + to.toISOString();
+    try {
+      const [t, ev, notes] = await Promise.all([
+        api.get("/api/v1/trends?series=" + encodeURIComponent(name) + "&points=1000&" + q),
+        api.get("/api/v1/alarms/events?limit=500&" + q),
+        api.get("/api/v1/annotations?limit=500&" + q)]);
+      const s = t.series[0];
+      const xs = [], mx = [], mean = [], mn = [];
+      for (const p of s.points) { xs.push(Date.parse(p.t) / 1000); mx.push(p.max); mean.push(p.mean); mn.push(p.min); }
+      this.events = ev.events || [];
+      this.notes = notes.annotations || [];
+      this.plot.setData([xs, mx, mean, mn]);
+      this.plot.setScale("x", { min: from.getTime() / 1000, max: to.getTime() / 1000 });
+      document.getElementById("trend-meta").textContent =
+        s.points.length + " points from " + s.resolution + " data · " + (s.unit || "") + " · drag to zoom";
+    } catch (e) {
+      document.getElementById("trend-meta").textContent = "trend: " + e.message;
+    }
+  },
+  drawMarks(u) {
+    const ctx = u.ctx, dpr = devicePixelRatio || 1;
+    ctx.save();
+    ctx.font = (11 * dpr) + "px system-ui, sans-serif";
+    const mark = (tIso, color, dash, label) => {
+      const t = Date.parse(tIso) / 1000;
+      if (t < u.scales.x.min || t > u.scales.x.max) return;
+      const x = u.valToPos(t, "x", true);
+      ctx.setLineDash(dash); ctx.strokeStyle = color; ctx.fillStyle = color;
+      ctx.beginPath(); ctx.moveTo(x, u.bbox.top); ctx.lineTo(x, u.bbox.top + u.bbox.height); ctx.stroke();
+      ctx.fillText(label, x + 3 * dpr, u.bbox.top + 12 * dpr);
+    };
+    for (const e of this.events) {
+      const crit = e.severity === "critical";
+      if (e.state !== "unacknowledged") continue;
+      mark(e.t, crit ? "#b3261e" : "#b77900", crit ? [] : [5 * dpr, 3 * dpr], (crit ? "◆ " : "▲ ") + e.rule);
+    }
+    for (const n of this.notes) mark(n.t, "#4a5560", [2 * dpr, 2 * dpr], "✎ " + n.text.slice(0, 30));
+    ctx.restore();
+  },
+  pan(direction) {
+    const to = this.toMs || Date.now();
+    this.toMs = Math.min(Date.now(), to + direction * this.spanS * 500);
+    this.load();
+  },
+};
