@@ -274,13 +274,13 @@ Peak PeakFinder::interpolate(std::span<const float> power, size_t max_bin) const
   return peak;
 }
 
-// Median over a sliding window, evaluated on a grid every window/8 bins and joined linearly
-// (the floor changes slowly, so the grid loses little and costs O(bins·8) instead of
+// Median over a sliding window, evaluated on a grid every window/4 bins and joined linearly
+// (the floor changes slowly, so the grid loses little and costs O(bins·4) instead of
 // O(bins·window)). Windows are clipped at the spectrum's ends.
 void PeakFinder::estimate_floor(std::span<const float> power) noexcept {
   const size_t n = power.size();
   const size_t half = floor_window_ / 2;
-  const size_t stride = std::max<size_t>(1, floor_window_ / 8);
+  const size_t stride = std::max<size_t>(1, floor_window_ / 4);
   auto median_at = [&](size_t centre) {
     const size_t lo = centre > half ? centre - half : 0;
     const size_t hi = std::min(n, centre + half + 1);
