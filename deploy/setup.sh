@@ -11,6 +11,7 @@ packages=(
   libtomlplusplus-dev libcli11-dev libsystemd-dev libmosquitto-dev
   libgtest-dev libgmock-dev libbenchmark-dev
   libcurl4-openssl-dev python3-numpy python3-scipy flac
+  prometheus  # promtool lints /metrics in the http tests (installed without recommends)
 )
 
 missing=()
