@@ -129,8 +129,21 @@ SyntheticRig::SyntheticRig(const SyntheticRigConfig& config)
   const double r = std::exp(-c.resonance_damping * wn);
   res_a1_ = 2.0 * r * std::cos(wd);
   res_a2_ = -r * r;
-  // h[n] = r^n sin(wd (n+1)) / sin(wd) for a unit impulse: scale by sin(wd) for a peak near 1.
-  res_norm_ = std::sin(wd);
+  // Impacts enter through (1 - z^-1)^2, a double zero at DC: an accelerometer sees a force
+  // impulse through a mode as acceleration, which has no DC response, so the impact train
+  // adds (almost) nothing at BPFO itself in the plain spectrum. Scale so that one impact's
+  // response peaks at exactly its amplitude (found by running the filter once here).
+  {
+    double y1 = 0.0, y2 = 0.0, peak = 0.0;
+    const double drive[3] = {1.0, -2.0, 1.0};
+    for (int n = 0; n < 4096; ++n) {
+      const double y = res_a1_ * y1 + res_a2_ * y2 + (n < 3 ? drive[n] : 0.0);
+      peak = std::max(peak, std::fabs(y));
+      y2 = y1;
+      y1 = y;
+    }
+    res_norm_ = 1.0 / peak;
+  }
   next_impact_ = 1.0 + c.defect_jitter * next_normal();
 }
 
@@ -315,7 +328,9 @@ void SyntheticRig::generate_chunk(float* out, size_t frames) noexcept {
         ++impacts_;
       }
     }
-    const double y = res_a1_ * res_y1_ + res_a2_ * res_y2_ + x;
+    const double y = res_a1_ * res_y1_ + res_a2_ * res_y2_ + x - 2.0 * res_x1_ + res_x2_;
+    res_x2_ = res_x1_;
+    res_x1_ = x;
     res_y2_ = res_y1_;
     res_y1_ = y;
 

@@ -154,8 +154,10 @@ class SyntheticRig final : public Source {
   std::array<std::array<double, 4>, 2> tone_c_{};
   std::array<std::array<double, 4>, 2> tone_s_{};
   std::array<double, 2> hum_c_{}, hum_s_{};
-  // Resonator y[n] = a1 y[n-1] + a2 y[n-2] + x[n] (impulse response peak ~ x / sin(w)).
+  // Resonator y[n] = a1 y[n-1] + a2 y[n-2] + x[n] - 2 x[n-1] + x[n-2], x = impacts scaled
+  // by res_norm_ so that one impact's response peaks at its amplitude.
   double res_a1_ = 0.0, res_a2_ = 0.0, res_y1_ = 0.0, res_y2_ = 0.0, res_norm_ = 1.0;
+  double res_x1_ = 0.0, res_x2_ = 0.0;
   // Running state.
   int64_t frame_ = 0;
   double shaft_phase_ = 0.0;  // cycles in [0, 1)
