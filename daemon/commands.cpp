@@ -21,6 +21,7 @@ void add(CLI::App& app, CommandRunner (*reg)(CLI::App&)) {
 void register_commands(CLI::App& app) {
   add(app, register_analyze_command);
   add(app, register_check_config_command);
+  add(app, register_query_command);
 }
 
 int run_selected_command(CLI::App& /*app*/) {

@@ -20,5 +20,6 @@ int run_selected_command(CLI::App& app);
 using CommandRunner = std::function<int()>;
 CommandRunner register_analyze_command(CLI::App& app);
 CommandRunner register_check_config_command(CLI::App& app);
+CommandRunner register_query_command(CLI::App& app);
 
 }  // namespace tonewarden::daemon
