@@ -280,6 +280,10 @@ TEST(AnalyzeCliTest, BadOptionsExitTwoAndNameTheOption) {
   expect_input_error(analyze({path, "--pad", "3"}), {"--pad", "power of two"});
   expect_input_error(analyze({path, "--velocity"}), {"--velocity", "--unit g"});
   expect_input_error(analyze({path, "--block", "262144"}), {"shorter than one block"});
+  // The 10.17 s record gives 28 frames of 8192 at 50 % overlap: an average of 100 never completes.
+  expect_input_error(analyze({path, "--average", "linear:100"}), {"--average linear:100", "28"});
+  expect_input_error(analyze({path, "--spectrum-out", temp_path("no/such/dir.csv")}),
+                     {"--spectrum-out", "cannot create"});
   EXPECT_EQ(analyze({path, "--format", "xml"}).exit_code, 2);  // CLI11's own check
 }
 
