@@ -9,13 +9,16 @@ namespace tonewarden::http {
 
 // --- Connections and threads ---
 inline constexpr int kDefaultPort = 8377;                  // TCP port when the config names none
-inline constexpr size_t kRequestWorkerThreads = 8;         // pool threads for ordinary requests
+// A kept-alive connection holds a pool thread between its requests, so the pool must exceed the
+// connections a normal deployment keeps open (dashboards, scrapers, scripts); beyond it, new
+// connections queue until one closes.
+inline constexpr size_t kRequestWorkerThreads = 32;        // pool threads for ordinary requests
 inline constexpr size_t kDefaultMaxEventStreams = 8;       // open SSE streams (one thread each)
 inline constexpr size_t kMaxMaxEventStreams = 64;          // upper bound for that setting
 inline constexpr int kReadTimeoutS = 5;                    // per socket read, seconds
 inline constexpr int kWriteTimeoutS = 5;                   // per socket write, seconds
-inline constexpr int kKeepAliveTimeoutS = 5;               // idle keep-alive connection, seconds
-inline constexpr size_t kKeepAliveMaxRequests = 1000;      // requests per kept-alive connection
+inline constexpr int kKeepAliveTimeoutS = 2;     // idle keep-alive connection (bounds stop()), s
+inline constexpr size_t kKeepAliveMaxRequests = 100;  // per connection, then it closes (fairness)
 inline constexpr size_t kMaxPayloadBytes = 64 * 1024;      // request body; beyond it: 413
 inline constexpr int kStartTimeoutMs = 2000;               // start() waits this long for listen
 
