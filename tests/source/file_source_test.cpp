@@ -10,6 +10,7 @@
 #include <thread>
 #include <vector>
 
+#include "support/temp_dir.h"
 #include "tonewarden/source/sound_file_writer.h"
 
 namespace tonewarden::source {
@@ -19,15 +20,7 @@ namespace fs = std::filesystem;
 
 class FileSourceTest : public ::testing::Test {
  protected:
-  void SetUp() override {
-    char tmpl[] = "/tmp/tw_file_source_test_XXXXXX";
-    ASSERT_NE(mkdtemp(tmpl), nullptr);
-    root_ = tmpl;
-    drop_ = root_ / "drop";
-    fs::create_directory(drop_);
-    record_ = (root_ / "finished.txt").string();
-  }
-  void TearDown() override { fs::remove_all(root_); }
+  void SetUp() override { fs::create_directory(drop_); }
 
   // A float WAV whose sample i of channel c is value + i + c / 10 (easy to recognise).
   std::string write_wav(const fs::path& path, size_t frames, float value,
@@ -86,8 +79,10 @@ class FileSourceTest : public ::testing::Test {
     return blocks;
   }
 
-  fs::path root_, drop_;
-  std::string record_;
+  tonewarden::testing::TempDir tmp_{"tw_file_source_test"};
+  const fs::path& root_ = tmp_.path();
+  const fs::path drop_ = root_ / "drop";
+  const std::string record_ = (root_ / "finished.txt").string();
   fs::file_time_type stamp_ = fs::file_time_type::clock::now();
 };
 

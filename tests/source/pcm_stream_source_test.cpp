@@ -16,6 +16,8 @@
 #include <thread>
 #include <vector>
 
+#include "support/temp_dir.h"
+
 namespace tonewarden::source {
 namespace {
 
@@ -23,12 +25,6 @@ namespace fs = std::filesystem;
 
 class PcmStreamSourceTest : public ::testing::Test {
  protected:
-  void SetUp() override {
-    char tmpl[] = "/tmp/tw_pcm_test_XXXXXX";
-    ASSERT_NE(mkdtemp(tmpl), nullptr);
-    dir_ = tmpl;
-  }
-  void TearDown() override { fs::remove_all(dir_); }
 
   std::string write_file(const std::string& name, const void* data, size_t bytes) {
     const std::string path = (dir_ / name).string();
@@ -55,7 +51,8 @@ class PcmStreamSourceTest : public ::testing::Test {
     return all;
   }
 
-  fs::path dir_;
+  tonewarden::testing::TempDir tmp_{"tw_pcm_test"};
+  const fs::path& dir_ = tmp_.path();
 };
 
 TEST_F(PcmStreamSourceTest, ParsesFormatNames) {

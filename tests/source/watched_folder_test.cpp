@@ -9,6 +9,8 @@
 #include <fstream>
 #include <sstream>
 
+#include "support/temp_dir.h"
+
 namespace tonewarden::source {
 namespace {
 
@@ -16,15 +18,7 @@ namespace fs = std::filesystem;
 
 class WatchedFolderTest : public ::testing::Test {
  protected:
-  void SetUp() override {
-    char tmpl[] = "/tmp/tw_watch_test_XXXXXX";
-    ASSERT_NE(mkdtemp(tmpl), nullptr);
-    root_ = tmpl;
-    dir_ = root_ / "drop";
-    fs::create_directory(dir_);
-    record_ = (root_ / "finished.txt").string();
-  }
-  void TearDown() override { fs::remove_all(root_); }
+  void SetUp() override { fs::create_directory(dir_); }
 
   // Writes `bytes` bytes and sets the mtime to `age_s` seconds before a fixed instant.
   void put(const std::string& name, size_t bytes, int age_s) {
@@ -44,8 +38,10 @@ class WatchedFolderTest : public ::testing::Test {
 
   std::string path(const std::string& name) const { return (dir_ / name).string(); }
 
-  fs::path root_, dir_;
-  std::string record_;
+  tonewarden::testing::TempDir tmp_{"tw_watch_test"};
+  const fs::path& root_ = tmp_.path();
+  const fs::path dir_ = root_ / "drop";
+  const std::string record_ = (root_ / "finished.txt").string();
   fs::file_time_type base_time_ = fs::file_time_type::clock::now();
 };
 
