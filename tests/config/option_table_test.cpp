@@ -67,7 +67,9 @@ TEST(OptionTableTest, RowsAreUniqueHaveHelpAndKnownSections) {
       ASSERT_NE(d, nullptr);
       EXPECT_EQ(d->type, OptionType::kEnum);
     }
-    if (o.type == OptionType::kEnum) EXPECT_FALSE(o.choices.empty());
+    if (o.type == OptionType::kEnum) {
+      EXPECT_FALSE(o.choices.empty());
+    }
   }
 }
 
