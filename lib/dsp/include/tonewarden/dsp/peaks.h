@@ -11,6 +11,7 @@
 #pragma once
 
 #include <cstddef>
+#include <cstdint>
 #include <span>
 #include <vector>
 
@@ -66,12 +67,15 @@ class PeakFinder {
   double search_bins_ = 0.5;       // how far from the maximum bin the tone may lie
   size_t ratio_step_ = 1;          // padded bins between the maximum and the fitted pair
   size_t floor_window_ = 63;       // effective floor window (odd)
+  size_t floor_stride_ = 1;        // bins between floor reads
   double spacing_bins_ = 1.0;      // min spacing in padded bins
+  std::vector<double> scan_minus_, scan_plus_;  // K(x ∓ pair) on interpolate()'s root-scan grid
   std::vector<double> kernel_re_, kernel_im_;  // Kaiser: tabulated transform, step kTableStep
   std::vector<float> skirt_;       // max of |W|/|W(0)| beyond ν, step kSkirtStep (leakage bound)
   double leakage_ratio_ = 4.0;     // 10^(leakage_margin_db/10)
   std::vector<float> floor_;       // per-bin floor
-  std::vector<float> scratch_;     // median workspace
+  std::vector<uint32_t> floor_counts_;  // running-median histogram, empty between calls
+  std::vector<uint32_t> floor_keys_;    // each bin's histogram bucket
   std::vector<size_t> candidates_;
   std::vector<size_t> merged_;     // maxima dropped by the spacing rule (still leak)
   PeakFinder(const PeakConfig& c, Window w) : config_(c), window_(std::move(w)) {}
