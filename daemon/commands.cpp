@@ -19,9 +19,11 @@ void add(CLI::App& app, CommandRunner (*reg)(CLI::App&)) {
 }  // namespace
 
 void register_commands(CLI::App& app) {
+  add(app, register_run_command);
   add(app, register_analyze_command);
-  add(app, register_check_config_command);
+  add(app, register_devices_command);
   add(app, register_query_command);
+  add(app, register_check_config_command);
 }
 
 int run_selected_command(CLI::App& /*app*/) {

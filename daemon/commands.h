@@ -18,8 +18,10 @@ int run_selected_command(CLI::App& app);
 
 // Each command file provides one of these; commands.cpp lists them.
 using CommandRunner = std::function<int()>;
+CommandRunner register_run_command(CLI::App& app);
 CommandRunner register_analyze_command(CLI::App& app);
-CommandRunner register_check_config_command(CLI::App& app);
+CommandRunner register_devices_command(CLI::App& app);
 CommandRunner register_query_command(CLI::App& app);
+CommandRunner register_check_config_command(CLI::App& app);
 
 }  // namespace tonewarden::daemon

@@ -60,7 +60,7 @@ struct StoreReader::Impl {
   int version = 0;
   Stmt series_all, series_one, series_find, oldest_raw, oldest_minute, oldest_hour, count_raw;
   Stmt raw_buckets, minute_buckets, hour_buckets;
-  Stmt events, snap_before, snap_after, annotations, runs, integrity;
+  Stmt events, snap_before, snap_after, snap_range, snap_id, annotations, runs, integrity;
 
   base::Status prepare();
   base::Result<SeriesInfo> series_by_id(SeriesId id);
@@ -112,6 +112,16 @@ base::Status StoreReader::Impl::prepare() {
        "SELECT id, t_ms, rig, channel, reason, sample_rate_hz, fft_length, bin_hz, window, scale, "
        "unit, floor_db, codes FROM snapshots WHERE t_ms > ?1 AND (?2 = '' OR rig = ?2) "
        "AND (?3 = '' OR channel = ?3) ORDER BY t_ms ASC, id ASC LIMIT ?4"},
+      // ?1 = end (exclusive), ?5 = start (inclusive); newest first.
+      {&snap_range,
+       "SELECT id, t_ms, rig, channel, reason, sample_rate_hz, fft_length, bin_hz, window, scale, "
+       "unit, floor_db, codes FROM snapshots WHERE t_ms < ?1 AND t_ms >= ?5 AND (?2 = '' OR rig = ?2) "
+       "AND (?3 = '' OR channel = ?3) ORDER BY t_ms DESC, id DESC LIMIT ?4"},
+      // ?1 = id.
+      {&snap_id,
+       "SELECT id, t_ms, rig, channel, reason, sample_rate_hz, fft_length, bin_hz, window, scale, "
+       "unit, floor_db, codes FROM snapshots WHERE id = ?1 AND (?2 = '' OR rig = ?2) "
+       "AND (?3 = '' OR channel = ?3) LIMIT ?4"},
       {&annotations,
        "SELECT id, t_ms, rig, text, author FROM annotations WHERE t_ms >= ?1 AND t_ms < ?2 "
        "AND (?3 = '' OR rig = ?3) ORDER BY t_ms, id"},
@@ -410,6 +420,24 @@ base::Result<std::vector<Snapshot>> StoreReader::nearest_snapshots(WallTimeMs t,
   });
   if (all.size() > static_cast<size_t>(count)) all.resize(static_cast<size_t>(count));
   return all;
+}
+
+base::Result<std::vector<Snapshot>> StoreReader::list_snapshots(WallTimeMs from, WallTimeMs to,
+                                                                int limit, const std::string& rig,
+                                                                const std::string& channel) {
+  if (limit < 1 || limit > 100000) {
+    return make_error(ErrorCode::kInvalidArgument,
+                      "snapshots: limit " + std::to_string(limit) + " outside 1..100000");
+  }
+  impl_->snap_range.bind(5, from.unix_ms);
+  return impl_->snapshots(impl_->snap_range, to.unix_ms, limit, rig, channel);
+}
+
+base::Result<Snapshot> StoreReader::snapshot(int64_t id) {
+  auto found = impl_->snapshots(impl_->snap_id, id, 1, "", "");
+  if (!found.ok()) return std::move(found).error();
+  if (found->empty()) return make_error(ErrorCode::kNotFound, "no snapshot with id " + std::to_string(id));
+  return std::move(found->front());
 }
 
 base::Result<std::vector<Annotation>> StoreReader::annotations(WallTimeMs from, WallTimeMs to,

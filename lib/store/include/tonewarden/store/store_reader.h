@@ -83,6 +83,12 @@ class StoreReader {
   base::Result<std::vector<Snapshot>> nearest_snapshots(WallTimeMs t, int count,
                                                         const std::string& rig = "",
                                                         const std::string& channel = "");
+  // Snapshots in [from, to), newest first, at most `limit` (1..100000); filters when not empty.
+  base::Result<std::vector<Snapshot>> list_snapshots(WallTimeMs from, WallTimeMs to, int limit,
+                                                     const std::string& rig = "",
+                                                     const std::string& channel = "");
+  // One snapshot by id; kNotFound if there is none.
+  base::Result<Snapshot> snapshot(int64_t id);
   base::Result<std::vector<Annotation>> annotations(WallTimeMs from, WallTimeMs to,
                                                     const std::string& rig = "");
   base::Result<std::vector<RunRecord>> runs(WallTimeMs from, WallTimeMs to);
