@@ -265,11 +265,17 @@ struct WebServer::Impl : public http::StatusProvider,
     for (auto& [name, mk] : markers) {
       if (mk.frequency_hz > 0) s.markers.push_back(mk);
     }
-    // Threshold lines: rules on a target amplitude of this channel, drawn around the target.
+    // Threshold lines: rules on a target amplitude of this channel, drawn around the target,
+    // only when the reading is in the spectrum's own unit (an envelope target's is not).
     for (const pipeline::AlarmLive& a : live.alarms) {
       std::string c, t, m;
       split_reading(a.reading, &c, &t, &m);
       if (c != ch.name || t.empty() || m != "amplitude") continue;
+      bool same_unit = false;
+      for (const pipeline::ReadingLive& r : live.readings) {
+        if (r.name == a.reading) same_unit = r.unit == ch.unit;
+      }
+      if (!same_unit) continue;
       double f = 0;
       for (const auto& mk : s.markers) {
         if (mk.target == t) f = mk.frequency_hz;

@@ -30,7 +30,7 @@ async function refreshSpectrum() {
   const ch = document.getElementById("channel").value;
   if (!ch) return;
   try {
-    const s = await api.get("/api/v1/spectrum?channel=" + encodeURIComponent(ch) + "&points=1200");
+    const s = await api.get("/api/v1/spectrum?channel=" + encodeURIComponent(ch) + "&points=4096");
     spectrumView.update(s);
     spectrogramView.push(s);
     document.getElementById("spectrum-meta").textContent =

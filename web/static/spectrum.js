@@ -1,7 +1,7 @@
 // Live spectrum: uPlot line with labelled peaks, target markers and threshold lines.
 "use strict";
 const spectrumView = {
-  plot: null, data: null, logX: false, logY: true,
+  plot: null, data: null, logX: true, logY: true,
   build(el) {
     if (this.plot) { this.plot.destroy(); this.plot = null; }
     const self = this;
@@ -67,9 +67,13 @@ const spectrumView = {
     // Peaks: a small triangle and the frequency.
     ctx.setLineDash([]);
     ctx.fillStyle = "#2b2f33";
+    const placed = [];
     for (const p of (s.peaks || []).slice(0, 8)) {
       if (!inX(p.frequency_hz) || !(p.amplitude > 0 || !this.logY)) continue;
       const x = u.valToPos(p.frequency_hz, "x", true), y = u.valToPos(p.amplitude, "y", true);
+      // Keep labels readable: skip one that would overlap a stronger peak's label.
+      if (placed.some((q) => Math.abs(q[0] - x) < 60 * dpr && Math.abs(q[1] - y) < 14 * dpr)) continue;
+      placed.push([x, y]);
       ctx.beginPath(); ctx.moveTo(x, y - 3 * dpr); ctx.lineTo(x - 4 * dpr, y - 10 * dpr); ctx.lineTo(x + 4 * dpr, y - 10 * dpr); ctx.fill();
       ctx.fillText(p.frequency_hz.toFixed(p.frequency_hz < 100 ? 2 : 1) + " Hz", x + 5 * dpr, y - 10 * dpr);
     }

@@ -36,15 +36,15 @@ const trendView = {
         api.get("/api/v1/trends?series=" + encodeURIComponent(name) + "&points=1000&" + q),
         api.get("/api/v1/alarms/events?limit=500&" + q),
         api.get("/api/v1/annotations?limit=500&" + q)]);
+      // Columns: t[], mean[], min[], max[] (one entry per bucket).
       const s = t.series[0];
-      const xs = [], mx = [], mean = [], mn = [];
-      for (const p of s.points) { xs.push(Date.parse(p.t) / 1000); mx.push(p.max); mean.push(p.mean); mn.push(p.min); }
+      const xs = s.t.map((iso) => Date.parse(iso) / 1000);
       this.events = ev.events || [];
       this.notes = notes.annotations || [];
-      this.plot.setData([xs, mx, mean, mn]);
+      this.plot.setData([xs, s.max, s.mean, s.min]);
       this.plot.setScale("x", { min: from.getTime() / 1000, max: to.getTime() / 1000 });
       document.getElementById("trend-meta").textContent =
-        s.points.length + " points from " + s.resolution + " data · " + (s.unit || "") + " · drag to zoom";
+ xs.length + " points from " + s.resolution + " data · " + (s.unit || "") + " · drag to zoom";
     } catch (e) {
       document.getElementById("trend-meta").textContent = "trend: " + e.message;
     }
