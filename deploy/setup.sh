@@ -12,6 +12,7 @@ packages=(
   libgtest-dev libgmock-dev libbenchmark-dev
   libcurl4-openssl-dev python3-numpy python3-scipy flac
   prometheus  # promtool lints /metrics in the http tests (installed without recommends)
+  chromium  # headless, drives the dashboard browser test (tests/e2e/dashboard_browser_test.mjs)
 )
 
 missing=()
