@@ -29,19 +29,6 @@ constexpr auto kStopDeadline = std::chrono::seconds(5);     // SIGTERM to exit, 
 constexpr auto kStoreFlushTimeout = std::chrono::milliseconds(2500);
 constexpr int kLoopTickMs = 500;
 
-base::LogLevel to_log_level(config::LogLevel l) {
-  switch (l) {
-    case config::LogLevel::kTrace: return base::LogLevel::kTrace;
-    case config::LogLevel::kDebug: return base::LogLevel::kDebug;
-    case config::LogLevel::kInfo: return base::LogLevel::kInfo;
-    case config::LogLevel::kWarn: return base::LogLevel::kWarn;
-    case config::LogLevel::kError:
-    case config::LogLevel::kCritical: return base::LogLevel::kError;
-    case config::LogLevel::kOff: return base::LogLevel::kOff;
-  }
-  return base::LogLevel::kInfo;
-}
-
 void print_issues(const config::LoadedConfig& loaded) {
   for (const auto& issue : loaded.issues) {
     std::fprintf(stderr, "%s\n", config::format_issue(issue).c_str());
@@ -154,6 +141,19 @@ base::Result<std::vector<std::unique_ptr<notify::Sink>>> make_sinks(const config
 }
 
 }  // namespace
+
+base::LogLevel to_log_level(config::LogLevel l) {
+  switch (l) {
+    case config::LogLevel::kTrace: return base::LogLevel::kTrace;
+    case config::LogLevel::kDebug: return base::LogLevel::kDebug;
+    case config::LogLevel::kInfo: return base::LogLevel::kInfo;
+    case config::LogLevel::kWarn: return base::LogLevel::kWarn;
+    case config::LogLevel::kError:
+    case config::LogLevel::kCritical: return base::LogLevel::kError;
+    case config::LogLevel::kOff: return base::LogLevel::kOff;
+  }
+  return base::LogLevel::kInfo;
+}
 
 int run_daemon(const DaemonOptions& options) {
   const auto t_start = std::chrono::steady_clock::now();

@@ -8,7 +8,9 @@
 #include <memory>
 #include <string>
 
+#include "tonewarden/base/log.h"
 #include "tonewarden/base/result.h"
+#include "tonewarden/config/config.h"
 
 namespace tonewarden::daemon {
 
@@ -17,6 +19,9 @@ struct DaemonOptions {
   std::string listen_override;    // "ADDR:PORT"; empty: from config
   std::string data_dir_override;  // empty: from config
 };
+
+// The config's log level as the logger's (critical folds into error).
+base::LogLevel to_log_level(config::LogLevel level);
 
 // Runs until SIGTERM/SIGINT (or until every rig's source has finished, for finite sources).
 // Returns the process exit code: 0 ok, 1 runtime failure, 2 config or usage error.

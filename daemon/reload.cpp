@@ -17,19 +17,6 @@ std::string rig_of_key(const std::string& key) {
   return end == std::string::npos ? "" : key.substr(4, end - 4);
 }
 
-base::LogLevel to_base_level(config::LogLevel l) {
-  switch (l) {
-    case config::LogLevel::kTrace: return base::LogLevel::kTrace;
-    case config::LogLevel::kDebug: return base::LogLevel::kDebug;
-    case config::LogLevel::kInfo: return base::LogLevel::kInfo;
-    case config::LogLevel::kWarn: return base::LogLevel::kWarn;
-    case config::LogLevel::kError:
-    case config::LogLevel::kCritical: return base::LogLevel::kError;
-    case config::LogLevel::kOff: return base::LogLevel::kOff;
-  }
-  return base::LogLevel::kInfo;
-}
-
 }  // namespace
 
 bool reload_config(const DaemonOptions& options, config::LoadedConfig& loaded, config::Config& cfg,
@@ -69,7 +56,7 @@ bool reload_config(const DaemonOptions& options, config::LoadedConfig& loaded, c
 
   config::Config merged = cfg;
   merged.daemon.log_level = next.config.daemon.log_level;
-  base::set_log_level(to_base_level(merged.daemon.log_level));
+  base::set_log_level(to_log_level(merged.daemon.log_level));
   merged.notify = next.config.notify;
   for (const std::string& name : rigs_to_rebuild) {
     const config::RigConfig* fresh = nullptr;
