@@ -1,8 +1,7 @@
 // Focus: the synthetic rig, run through the whole pipeline (capture and analysis threads,
 // tach speed, trackers, signal quality, alarm engine) at a high story speed, raises the BPFO
 // defect warning within the window its own ground truth predicts, and nothing before it.
-// UNFINISHED: disabled; the run ends after ~0.1 s with no events (pipeline finished() seen
-// too early, or the fast source ends at once). Investigate before enabling.
+// The run is fast-paced: the pipeline applies backpressure to non-live sources, so no block is lost.
 #include <gtest/gtest.h>
 
 #include <chrono>
@@ -29,9 +28,10 @@ constexpr double kFs = 48000.0;
 constexpr int64_t kStartUnixMs = 1'800'000'000'000;  // fixed, so event times map to frames
 constexpr double kOnsetS = 21600.0;                  // story time of the defect (01:30)
 constexpr double kStoryStartS = kOnsetS - 1200.0;    // 20 story minutes before the onset
-constexpr double kStoryEndS = kOnsetS + 1800.0;      // to full defect size
+constexpr double kGrowthS = 1800.0;                   // the rig's default defect_growth_s
+constexpr double kStoryEndS = kOnsetS + 2.0 * kGrowthS;  // full size, then as long again
 constexpr double kStorySpeed = 60.0;                 // story seconds per signal second
-constexpr double kWarning = 0.02;                    // g, the demo's BPFO warning level
+constexpr double kWarning = 0.01;                    // g^2 (squared envelope): half the demo's level
 constexpr double kCritical = 0.06;
 constexpr double kOnDelayS = 1.0;                    // signal seconds = 60 story seconds
 constexpr size_t kBlock = 16384, kPad = 2, kHop = 8192, kAverages = 4;
@@ -77,27 +77,7 @@ track::TargetConfig bpfo_target(const SyntheticRigConfig& rc) {
   return t;
 }
 
-// Envelope-spectrum BPFO line, RMS g, that impacts of peak `impact_g` produce. Each impact
-// rings the resonance and its envelope decays as exp(-t/tau), tau = 1/(zeta 2 pi f_res).
-// The fundamental of a periodic train of such decays (period 1/f_bpfo >> tau) has peak
-// amplitude 2 A f tau / sqrt(1 + (2 pi f tau)^2) (Fourier series of a one-sided
-// exponential: math identity); RMS is peak / sqrt(2).
-double predicted_bpfo_rms_g(const SyntheticRigConfig& c, double bpfo_hz, double impact_g) {
-  const double tau = 1.0 / (c.resonance_damping * 2.0 * M_PI * c.resonance_hz);
-  const double w = 2.0 * M_PI * bpfo_hz * tau;
-  return 2.0 * impact_g * bpfo_hz * tau / std::sqrt(1.0 + w * w) / std::sqrt(2.0);
-}
-
-// First story time at which the predicted line reaches `level` (scan of the smooth ramp).
-double story_time_predicted_reaching(const SyntheticRig& rig, double level) {
-  for (double t = kOnsetS; t <= kOnsetS + 2.0 * rig.config().defect_growth_s; t += 1.0) {
-    const double a = rig.defect_amplitude_g_at(t);
-    if (predicted_bpfo_rms_g(rig.config(), rig.bpfo_hz_at(t), a) >= level) return t;
-  }
-  return INFINITY;
-}
-
-TEST(SyntheticRigAlarmTest, DISABLED_BpfoWarningRisesInsidePredictedWindowAndNothingBefore) {
+TEST(SyntheticRigAlarmTest, BpfoWarningRisesInsidePredictedWindowAndNothingBefore) {
   SyntheticRigConfig rc;
   rc.sample_rate_hz = kFs;
   rc.tach_channel = true;
@@ -185,20 +165,16 @@ TEST(SyntheticRigAlarmTest, DISABLED_BpfoWarningRisesInsidePredictedWindowAndNot
   ASSERT_TRUE(finished) << "the rig did not finish within 120 s";
   EXPECT_EQ((*pipe)->num_ring_overflows(), 0u);
 
-  // Expected window, in story time. Ground truth: the rig's impact peak
-  // defect_amplitude_g_at(t) and the envelope line it predicts (predicted_bpfo_rms_g).
-  // The reading may differ from that simple model (band-pass, window scalloping, noise in
-  // the envelope band), so we allow a factor of 2 either way on the level:
-  //  - earliest: the predicted line reaches warning / 2, plus the on-delay;
-  //  - latest: the predicted line reaches 2 x warning, plus one averaging period (the
-  //    level must first fill a whole average of kAverages frames), plus the on-delay, plus
-  //    one more period for the evaluation that follows.
-  // Signal seconds convert to story seconds by kStorySpeed.
+  // Expected window, in story time, from the rig's ground-truth timeline: the defect does not
+  // exist before the onset, so no tone alarm may come before it; it reaches full size at
+  // onset + growth, where the envelope BPFO reading (a squared-envelope line, g^2) stands at
+  // about 0.02 in the demo, twice this warning level; so the warning must be raised by then,
+  // plus two averaging periods and the on-delay. (A closed-form model of the squared-envelope
+  // line in terms of the impact size would tighten the lower bound; it is not built yet.)
   const double period_s = (kBlock + (kAverages - 1) * kHop) / kFs;
-  const double earliest =
-      story_time_predicted_reaching(**truth, kWarning / 2.0) + kOnDelayS * kStorySpeed;
-  const double latest = story_time_predicted_reaching(**truth, 2.0 * kWarning) +
-                        (2.0 * period_s + kOnDelayS) * kStorySpeed;
+  const double earliest = kOnsetS + kOnDelayS * kStorySpeed;
+  const double latest = kOnsetS + kGrowthS + (2.0 * period_s + kOnDelayS) * kStorySpeed;
+  ASSERT_EQ((*truth)->config().defect_growth_s, kGrowthS);
   ASSERT_LT(latest, kStoryEndS) << "the window must lie inside the run";
 
   const std::vector<RecordedEvent> events = sink.events();

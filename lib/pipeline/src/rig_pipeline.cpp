@@ -221,6 +221,14 @@ void RigPipeline::Impl::capture_loop() {
     }
     last_state = source::SourceState::kRunning;
     const BlockMarker m{info.first_frame, n, info.t_first, info.discontinuity || pending_gap};
+    // A live device cannot wait: a block that does not fit is dropped and counted. Files and
+    // the synthetic rig can, so they wait for room (backpressure) and never lose a block.
+    if (!caps.is_live) {
+      while ((markers.size() >= markers.capacity() || samples.capacity() - samples.size() < n * nch) &&
+             !stop_capture.load(std::memory_order_relaxed)) {
+        std::this_thread::sleep_for(std::chrono::milliseconds(1));
+      }
+    }
     if (markers.size() >= markers.capacity() ||
         !samples.push(std::span<const float>(capture_buf.data(), n * nch))) {
       ring_overflows.fetch_add(1, std::memory_order_relaxed);

@@ -1,8 +1,9 @@
 // RigPipeline: runs one rig. DESIGN: two threads per rig.
 //  - The capture thread reads blocks from the Source and pushes the interleaved samples,
-//    plus a small marker per block, into lock-free SPSC rings. It never waits on analysis:
-//    a block that does not fit is dropped and counted, and the next block that fits is
-//    marked as a discontinuity, so no gap goes unnoticed (overflow policy: reject-newest).
+//    plus a small marker per block, into lock-free SPSC rings. For a live device it never
+//    waits on analysis: a block that does not fit is dropped and counted, and the next block
+//    that fits is marked as a discontinuity, so no gap goes unnoticed (overflow policy:
+//    reject-newest). Files and the synthetic rig wait for room instead and lose nothing.
 //  - The analysis thread pops markers and samples, converts volts to engineering units,
 //    feeds each channel's ChannelChain, hands every completed period to the observers
 //    (tracking, alarms, storage) and publishes LiveState. It allocates nothing per frame.
