@@ -7,7 +7,11 @@ const spectrumView = {
     const self = this;
     const opts = {
       width: el.clientWidth || 900, height: 280,
-      scales: { x: { time: false, distr: this.logX ? 3 : 1 }, y: { distr: this.logY ? 3 : 1 } },
+      // The x range follows the data (up to Nyquist), not the next power of ten.
+      scales: {
+        x: { time: false, distr: this.logX ? 3 : 1, range: (u, min, max) => [min, max] },
+        y: { distr: this.logY ? 3 : 1 },
+      },
       axes: [{ label: "frequency (Hz)", stroke: "#2b2f33" }, { label: "amplitude", stroke: "#2b2f33", size: 70 }],
       series: [{ label: "Hz" }, { label: "RMS", stroke: "#34495e", width: 1, points: { show: false } }],
       cursor: { drag: { x: true, y: false } },

@@ -8,6 +8,7 @@ const trendView = {
     const opts = {
       width: el.clientWidth || 900, height: 260,
       scales: { x: { time: true } },
+      tzDate: (ts) => uPlot.tzDate(new Date(ts * 1e3), "Etc/UTC"),  // UTC like the rest of the page
       axes: [{ stroke: "#2b2f33" }, { stroke: "#2b2f33", size: 70 }],
       series: [{}, { label: "max", stroke: "#8a96a3", width: 1 }, { label: "mean", stroke: "#34495e", width: 1.5 },
         { label: "min", stroke: "#8a96a3", width: 1 }],
