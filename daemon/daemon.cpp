@@ -78,10 +78,6 @@ std::string wisdom_path(const config::Config& c) {
                                           : c.daemon.fft_wisdom_path;
 }
 
-std::string db_path(const config::Config& c) {
-  const std::string& f = c.store.db_file.empty() ? std::string("tonewarden.db") : c.store.db_file;
-  return (!f.empty() && f[0] == '/') ? f : c.daemon.data_dir + "/" + f;
-}
 
 store::StoreConfig to_store_config(const config::Config& c) {
   store::StoreConfig s;
@@ -141,6 +137,11 @@ base::Result<std::vector<std::unique_ptr<notify::Sink>>> make_sinks(const config
 }
 
 }  // namespace
+
+std::string db_path(const config::Config& c) {
+  const std::string& f = c.store.db_file.empty() ? std::string("tonewarden.db") : c.store.db_file;
+  return (!f.empty() && f[0] == '/') ? f : c.daemon.data_dir + "/" + f;
+}
 
 base::LogLevel to_log_level(config::LogLevel l) {
   switch (l) {

@@ -23,6 +23,9 @@ struct DaemonOptions {
 // The config's log level as the logger's (critical folds into error).
 base::LogLevel to_log_level(config::LogLevel level);
 
+// The history database file: [store] db_file, relative to the data directory unless absolute.
+std::string db_path(const config::Config& c);
+
 // Runs until SIGTERM/SIGINT (or until every rig's source has finished, for finite sources).
 // Returns the process exit code: 0 ok, 1 runtime failure, 2 config or usage error.
 int run_daemon(const DaemonOptions& options);

@@ -1,6 +1,8 @@
 // WebServer: the providers behind the HTTP API, over LiveState, the alarm engines and the store.
 #include "web_server.h"
 
+#include "daemon.h"
+
 #include <algorithm>
 #include <chrono>
 #include <cmath>
@@ -131,10 +133,7 @@ struct WebServer::Impl : public http::StatusProvider,
     if (!r) return make_error(ErrorCode::kUnavailable, "history: " + r.error().message);
     return ReaderLease{this, std::move(r).value()};
   }
-  std::string db_file() const {
-    const std::string& f = cfg.store.db_file.empty() ? std::string("tonewarden.db") : cfg.store.db_file;
-    return (!f.empty() && f[0] == '/') ? f : cfg.daemon.data_dir + "/" + f;
-  }
+  std::string db_file() const { return db_path(cfg); }
   const config::RigConfig* rig_config(const std::string& rig) const {
     for (const auto& r : cfg.rigs) {
       if (r.name == rig) return &r;
