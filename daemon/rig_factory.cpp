@@ -26,6 +26,9 @@ dsp::WindowSpec to_window(const config::AnalysisConfig& a) {
     case config::WindowKind::kBlackmanHarris: return {dsp::WindowKind::kBlackmanHarris, 0};
     case config::WindowKind::kFlatTop: return {dsp::WindowKind::kFlatTop, 0};
     case config::WindowKind::kRectangular: return {dsp::WindowKind::kRectangular, 0};
+    case config::WindowKind::kBlackman: return {dsp::WindowKind::kBlackman, 0};
+    case config::WindowKind::kHft95: return {dsp::WindowKind::kHft95, 0};
+    case config::WindowKind::kKaiser: return {dsp::WindowKind::kKaiser, a.kaiser_beta};
   }
   return {};
 }

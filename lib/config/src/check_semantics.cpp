@@ -313,10 +313,17 @@ void check_rig(const Section& rig, const IssueSink& sink) {
   if (an != nullptr) {
     check_band(*an, "envelope_low_hz", "envelope_high_hz", nyquist_hz, sink);
     check_band(*an, "velocity_low_hz", "velocity_high_hz", nyquist_hz, sink);
+    WindowKind window = WindowKind::kHann;
+    double kaiser_beta = 0;
+    std::string window_error;
+    // A missing key had a bad type, reported already: no second message for it.
+    if (an->has("window") && !parse_window(an->get_string("window"), window, kaiser_beta, window_error)) {
+      sink.add(an->pos_of("window"), key_label(an->label, "window"), window_error);
+    }
     AverageMode mode;
     std::int64_t count = 0;
     double tau = 0;
-    if (!parse_average(an->get_string("average"), mode, count, tau)) {
+    if (an->has("average") && !parse_average(an->get_string("average"), mode, count, tau)) {
       sink.add(an->pos_of("average"), key_label(an->label, "average"),
                "invalid average \"" + an->get_string("average") + "\"",
                "linear:N (N 1..10000), exp:S (S 0.01..86400 s), peak, none");

@@ -11,7 +11,6 @@
 #include "tonewarden/config/config_tree.h"
 #include "tonewarden/config/loader.h"
 
-
 namespace tonewarden::config::detail {
 
 // Collects issues for one file.
@@ -46,5 +45,9 @@ Config to_config(const Section& root);
 // Parses "linear:N", "exp:S", "peak" or "none". Returns false on bad syntax.
 bool parse_average(const std::string& text, AverageMode& mode, std::int64_t& count,
                    double& time_constant_s);
+
+// Parses a window name ("hann", "flattop", "kaiser:8.6"...). On failure returns false and sets
+// `error` to a one-line reason (an unknown name lists the valid ones).
+bool parse_window(const std::string& text, WindowKind& kind, double& kaiser_beta, std::string& error);
 
 }  // namespace tonewarden::config::detail

@@ -173,8 +173,12 @@ std::vector<OptionSpec> build_options() {
           .def(i64(2)).range(1, 16, "x"));
   add(Opt("rig.analysis", "overlap_pct", T::kFloat, "overlap of consecutive frames")
           .def(f64(50)).range(0, 95, "%"));
-  add(Opt("rig.analysis", "window", T::kEnum, "window function; flat-top for amplitude, hann for general work")
-          .choices("hann|hamming|blackman-harris|flat-top|rectangular").def(str("hann")));
+  // A string, not an enum: kaiser takes its shape as "kaiser:BETA". Checked by the spectrum
+  // module's own window parser (check_semantics.cpp), so the names match `analyze --window`.
+  add(Opt("rig.analysis", "window", T::kString,
+          "window function: rect, hann, hamming, blackman, blackman-harris, flattop, hft95 or kaiser:BETA "
+          "(BETA 0..50); flattop for amplitude, hann for general work")
+          .def(str("hann")));
   add(Opt("rig.analysis", "average", T::kString, "linear:N frames, exp:S seconds time constant, peak hold, or none")
           .def(str("linear:4")));
   add(Opt("rig.analysis", "scale", T::kEnum, "spectrum scaling")

@@ -63,10 +63,8 @@ AnalysisConfig to_analysis(const Section& s) {
   c.block_samples = s.get_int("block_samples");
   c.pad_factor = s.get_int("pad_factor");
   c.overlap_pct = s.get_float("overlap_pct");
-  c.window = pick<WindowKind>(s.get_string("window"),
-                              {{"hann", WindowKind::kHann}, {"hamming", WindowKind::kHamming},
-                               {"blackman-harris", WindowKind::kBlackmanHarris}, {"flat-top", WindowKind::kFlatTop},
-                               {"rectangular", WindowKind::kRectangular}});
+  std::string window_error;  // empty: checked already by check_semantics
+  parse_window(s.get_string("window"), c.window, c.kaiser_beta, window_error);
   parse_average(s.get_string("average"), c.average_mode, c.average_count, c.average_time_constant_s);
   c.scale = pick<SpectrumScale>(s.get_string("scale"), {{"amplitude-rms", SpectrumScale::kAmplitudeRms},
                                                         {"amplitude-peak", SpectrumScale::kAmplitudePeak},

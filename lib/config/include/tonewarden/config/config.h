@@ -88,7 +88,17 @@ struct ChannelConfig {
   ChannelRole role = ChannelRole::kVibration;
 };
 
-enum class WindowKind { kHann, kHamming, kBlackmanHarris, kFlatTop, kRectangular };
+// Every window the spectrum stage offers; names as `tonewarden analyze --window` spells them.
+enum class WindowKind {
+  kHann,
+  kHamming,
+  kBlackmanHarris,
+  kFlatTop,
+  kRectangular,
+  kBlackman,
+  kHft95,
+  kKaiser,  // shape in AnalysisConfig::kaiser_beta
+};
 enum class AverageMode { kNone, kLinear, kExponential, kPeakHold };
 enum class SpectrumScale { kAmplitudePeak, kAmplitudeRms, kPsd };
 
@@ -96,7 +106,8 @@ struct AnalysisConfig {
   std::int64_t block_samples = 0;
   std::int64_t pad_factor = 1;
   double overlap_pct = 0;
-  WindowKind window = WindowKind::kHann;
+  WindowKind window = WindowKind::kHann;          // from window = "hann" | ... | "kaiser:BETA"
+  double kaiser_beta = 0;                         // kKaiser only; [0, 50]
   AverageMode average_mode = AverageMode::kNone;  // from average = "linear:N" | "exp:S" | "peak"
   std::int64_t average_count = 0;                 // linear: N frames
   double average_time_constant_s = 0;             // exp: S seconds
