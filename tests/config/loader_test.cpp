@@ -146,7 +146,7 @@ const std::map<std::string, std::vector<std::string>>& bad_expectations() {
       {"unknown_key.toml",
        {"unknown_key.toml:3:1: daemon.log_levl: unknown key (allowed: data_dir, fft_wisdom_path, fft_planner, "
         "log_level, log_file, log_max_bytes, log_max_files, status_interval_s)",
-        "unknown_key.toml:5:2: daemom: unknown key (allowed: daemon, http, store, rig, notify)"}},
+        "unknown_key.toml:5:2: daemom: unknown key (allowed: daemon, http, store, evidence, rig, notify)"}},
       {"wrong_type.toml",
        {"wrong_type.toml:3:21: http.max_event_streams: expected integer, got string (allowed: integer 1..256 streams)",
         "wrong_type.toml:4:11: http.enabled: expected boolean, got integer (allowed: boolean)",

@@ -99,6 +99,18 @@ void check_store(const Section& store, const IssueSink& sink) {
   }
 }
 
+void check_evidence(const Section& ev, const IssueSink& sink) {
+  // A key missing here had a bad value, reported already; don't pile a second message on it.
+  if (!ev.has("enabled") || !ev.has("pre_s") || !ev.has("post_s") || !ev.get_bool("enabled")) return;
+  const double pre_s = ev.get_float("pre_s");
+  const double post_s = ev.get_float("post_s");
+  if (!(pre_s + post_s > 0)) {
+    // Both defaults are above 0, so post_s is in the file here: point at it.
+    sink.add(ev.pos_of("post_s"), key_label(ev.label, "post_s"),
+             "pre_s + post_s must be above 0 when enabled (set enabled = false for no clips)");
+  }
+}
+
 // Channels the source delivers; 0 when only the data can tell (file sources).
 std::int64_t source_channel_count(const Section& src) {
   const std::string kind = src.get_string("kind");
@@ -416,6 +428,7 @@ bool parse_average(const std::string& text, AverageMode& mode, std::int64_t& cou
 void check_semantics(const Section& root, const IssueSink& sink) {
   if (const Section* http = root.single("http")) check_http(*http, sink);
   if (const Section* store = root.single("store")) check_store(*store, sink);
+  if (const Section* evidence = root.single("evidence")) check_evidence(*evidence, sink);
   const auto& rigs = root.list("rig");
   check_names(rigs, "rig", sink);
   for (const Section& rig : rigs) check_rig(rig, sink);

@@ -44,6 +44,7 @@ const std::vector<SectionSpec>& sections() {
       {"daemon", false, false, false, "", "process-wide settings: data directory, logging, FFT wisdom"},
       {"http", false, false, false, "", "HTTP API and dashboard"},
       {"store", false, false, false, "", "SQLite history: batching, retention, snapshots"},
+      {"evidence", false, false, false, "", "raw FLAC clips of the samples around alarm activations"},
       {"rig", true, true, false, "name", "one watched machine"},
       {"rig.source", false, true, false, "", "where the rig's samples come from"},
       {"rig.channel", true, true, false, "name", "one sensor signal"},
@@ -116,6 +117,19 @@ std::vector<OptionSpec> build_options() {
           .def(i64(0)).range(0, 1e15, "bytes").live());
   add(Opt("store", "busy_timeout_ms", T::kInt, "wait this long for a busy database")
           .def(i64(5000)).range(0, 600000, "ms"));
+  // [evidence]
+  add(Opt("evidence", "enabled", T::kBool, "write raw FLAC clips around alarm activations")
+          .def(Value{true}));
+  add(Opt("evidence", "pre_s", T::kFloat, "seconds of samples kept before the activation")
+          .def(f64(10)).range(0, 120, "s"));
+  add(Opt("evidence", "post_s", T::kFloat, "seconds recorded after the activation")
+          .def(f64(10)).range(0, 120, "s"));
+  add(Opt("evidence", "max_total_mb", T::kFloat,
+          "size cap of the evidence folder (1 MB = 1000000 bytes); oldest clips are deleted first")
+          .def(f64(2048)).range(1, 1e6, "MB"));
+  add(Opt("evidence", "min_interval_s", T::kFloat,
+          "per rig: an activation within this long of a clip's start starts no new clip")
+          .def(f64(60)).range(0, 86400, "s"));
   // [[rig]]
   add(Opt("rig", "name", T::kString, "short unique name: letters, digits, '-' and '_'").req());
   add(Opt("rig", "description", T::kString, "free text for people").def(str("")).live());

@@ -187,6 +187,13 @@ Config to_config(const Section& root) {
   cfg.store.max_db_bytes = st.get_int("max_db_bytes");
   cfg.store.busy_timeout_ms = st.get_int("busy_timeout_ms");
 
+  const Section& ev = *root.single("evidence");
+  cfg.evidence.enabled = ev.get_bool("enabled");
+  cfg.evidence.pre_s = ev.get_float("pre_s");
+  cfg.evidence.post_s = ev.get_float("post_s");
+  cfg.evidence.max_total_mb = ev.get_float("max_total_mb");
+  cfg.evidence.min_interval_s = ev.get_float("min_interval_s");
+
   for (const Section& r : root.list("rig")) {
     RigConfig rig;
     rig.name = r.get_string("name");

@@ -216,10 +216,21 @@ struct NotifyConfig {
   MqttConfig mqtt;
 };
 
+// Raw-evidence clips: the samples around each alarm activation, kept as FLAC files.
+// Read at start only (changing them needs a restart).
+struct EvidenceConfig {
+  bool enabled = true;
+  double pre_s = 0;                // seconds kept before the activation; [0, 120]
+  double post_s = 0;               // seconds recorded after it; [0, 120]; pre_s + post_s > 0
+  double max_total_mb = 0;         // evidence folder cap in MB; oldest clips deleted first
+  double min_interval_s = 0;       // per rig: no new clip within this long of a clip's start
+};
+
 struct Config {
   DaemonConfig daemon;
   HttpConfig http;
   StoreConfig store;
+  EvidenceConfig evidence;
   std::vector<RigConfig> rigs;
   NotifyConfig notify;
 };
