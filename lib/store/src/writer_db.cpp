@@ -137,10 +137,47 @@ base::Result<WriterDb> WriterDb::open(const StoreConfig& config) {
   return w;
 }
 
+namespace {
+
+// The SQL below is built from fixed table names only; every value is a bound parameter.
+
+// Adds one batch's aggregate to a rollup row, creating it if the bucket is new.
+std::string rollup_upsert_sql(const char* table) {
+  return std::string("INSERT INTO ") + table +
+         "(series_id, t_ms, min, max, sum, count) VALUES(?1, ?2, ?3, ?4, ?5, ?6) "
+         "ON CONFLICT(series_id, t_ms) DO UPDATE SET min = min(min, excluded.min), "
+         "max = max(max, excluded.max), sum = sum + excluded.sum, count = count + excluded.count";
+}
+
+// Deletes the oldest ?3 rows of series ?1 below the cutoff ?2 from a (series_id, t_ms) table
+// (t_ms is unique per series, so "up to the ?3-th oldest" is exactly ?3 rows).
+std::string per_series_prune_sql(const char* table) {
+  return std::string("DELETE FROM ") + table +
+         " WHERE series_id = ?1 AND t_ms < ?2 AND t_ms <= coalesce((SELECT t_ms FROM " + table +
+         " WHERE series_id = ?1 AND t_ms < ?2 ORDER BY t_ms LIMIT 1 OFFSET ?3 - 1), ?2)";
+}
+
+// Deletes the oldest ?2 rows older than ?1 from a table keyed by id with a t_ms index.
+std::string age_prune_sql(const char* table) {
+  return std::string("DELETE FROM ") + table + " WHERE id IN (SELECT id FROM " + table +
+         " WHERE t_ms < ?1 ORDER BY t_ms LIMIT ?2)";
+}
+
+void bind_agg(Stmt& st, const Agg& a) {
+  st.bind(1, a.series_id);
+  st.bind(2, a.t_ms);
+  st.bind(3, a.min);
+  st.bind(4, a.max);
+  st.bind(5, a.sum);
+  st.bind(6, a.count);
+}
+
+}  // namespace
+
 base::Status WriterDb::prepare_all() {
   struct Item {
     Stmt* st;
-    const char* sql;
+    std::string sql;
   };
   const Item items[] = {
       {&begin_, "BEGIN IMMEDIATE"},
@@ -153,16 +190,8 @@ base::Status WriterDb::prepare_all() {
       {&upd_run_, "UPDATE runs SET stop_ms = ?2 WHERE id = ?1"},
       {&ins_reading_,
        "INSERT INTO readings(series_id, t_ms, value) VALUES(?1, ?2, ?3) ON CONFLICT DO NOTHING"},
-      {&up_minute_,
-       "INSERT INTO rollup_minute(series_id, t_ms, min, max, sum, count) "
-       "VALUES(?1, ?2, ?3, ?4, ?5, ?6) ON CONFLICT(series_id, t_ms) DO UPDATE SET "
-       "min = min(min, excluded.min), max = max(max, excluded.max), "
-       "sum = sum + excluded.sum, count = count + excluded.count"},
-      {&up_hour_,
-       "INSERT INTO rollup_hour(series_id, t_ms, min, max, sum, count) "
-       "VALUES(?1, ?2, ?3, ?4, ?5, ?6) ON CONFLICT(series_id, t_ms) DO UPDATE SET "
-       "min = min(min, excluded.min), max = max(max, excluded.max), "
-       "sum = sum + excluded.sum, count = count + excluded.count"},
+      {&up_minute_, rollup_upsert_sql("rollup_minute")},
+      {&up_hour_, rollup_upsert_sql("rollup_hour")},
       {&ins_event_,
        "INSERT INTO alarm_events(t_ms, rig, channel, rule, severity, state, value, threshold, "
        "message, evidence_path, user, comment) "
@@ -173,35 +202,19 @@ base::Status WriterDb::prepare_all() {
        "VALUES(?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14)"},
       {&ins_annotation_,
        "INSERT INTO annotations(t_ms, rig, text, author) VALUES(?1, ?2, ?3, ?4)"},
-      // Deletes the oldest ?3 rows of one series below the cutoff ?2 (t_ms is unique per
-      // series, so "up to the ?3-th oldest" is exactly ?3 rows).
-      {&prune_raw_,
-       "DELETE FROM readings WHERE series_id = ?1 AND t_ms < ?2 AND t_ms <= coalesce("
-       "(SELECT t_ms FROM readings WHERE series_id = ?1 AND t_ms < ?2 ORDER BY t_ms "
-       "LIMIT 1 OFFSET ?3 - 1), ?2)"},
-      {&prune_minute_,
-       "DELETE FROM rollup_minute WHERE series_id = ?1 AND t_ms < ?2 AND t_ms <= coalesce("
-       "(SELECT t_ms FROM rollup_minute WHERE series_id = ?1 AND t_ms < ?2 ORDER BY t_ms "
-       "LIMIT 1 OFFSET ?3 - 1), ?2)"},
-      {&prune_hour_,
-       "DELETE FROM rollup_hour WHERE series_id = ?1 AND t_ms < ?2 AND t_ms <= coalesce("
-       "(SELECT t_ms FROM rollup_hour WHERE series_id = ?1 AND t_ms < ?2 ORDER BY t_ms "
-       "LIMIT 1 OFFSET ?3 - 1), ?2)"},
-      {&prune_snap_age_,
-       "DELETE FROM snapshots WHERE id IN "
-       "(SELECT id FROM snapshots WHERE t_ms < ?1 ORDER BY t_ms LIMIT ?2)"},
+      {&prune_series_[0], per_series_prune_sql("readings")},
+      {&prune_series_[1], per_series_prune_sql("rollup_minute")},
+      {&prune_series_[2], per_series_prune_sql("rollup_hour")},
+      {&prune_age_[0], age_prune_sql("snapshots")},
+      {&prune_age_[1], age_prune_sql("alarm_events")},
+      {&prune_age_[2], age_prune_sql("annotations")},
       {&prune_snap_count_,
        "DELETE FROM snapshots WHERE id IN (SELECT id FROM (SELECT id, row_number() OVER "
        "(PARTITION BY rig, channel ORDER BY t_ms DESC, id DESC) AS rn FROM snapshots) "
        "WHERE rn > ?1 LIMIT ?2)"},
-      {&prune_events_,
-       "DELETE FROM alarm_events WHERE id IN "
-       "(SELECT id FROM alarm_events WHERE t_ms < ?1 ORDER BY t_ms LIMIT ?2)"},
-      {&prune_annotations_,
-       "DELETE FROM annotations WHERE id IN "
-       "(SELECT id FROM annotations WHERE t_ms < ?1 ORDER BY t_ms LIMIT ?2)"},
       {&oldest_raw_, "SELECT t_ms FROM readings WHERE series_id = ?1 ORDER BY t_ms LIMIT 1"},
-      {&oldest_snapshot_, "SELECT min(t_ms) FROM snapshots"},
+      {&newest_raw_,
+       "SELECT t_ms FROM readings WHERE series_id = ?1 ORDER BY t_ms DESC LIMIT 1"},
       {&series_ids_, "SELECT id FROM series ORDER BY id"},
       {&live_bytes_,
        "SELECT ((SELECT page_count FROM pragma_page_count()) - "
@@ -210,7 +223,7 @@ base::Status WriterDb::prepare_all() {
       {&checkpoint_, "PRAGMA wal_checkpoint(TRUNCATE)"},
   };
   for (const auto& it : items) {
-    auto st = Stmt::prepare(db_, it.sql);
+    auto st = Stmt::prepare(db_, it.sql.c_str());
     if (!st.ok()) return std::move(st).error();
     *it.st = std::move(st).value();
   }
@@ -289,22 +302,12 @@ base::Result<WriteOutcome> WriterDb::write(const Batch& b, bool* disk_full) {
   for (size_t i = 0; ok && i < minute.aggs().size(); ++i) {
     const Agg& a = minute.aggs()[i];
     hour.add(a.series_id, floor_to(a.t_ms, kHourMs), a.sum, a.count, a.min, a.max);
-    up_minute_.bind(1, a.series_id);
-    up_minute_.bind(2, a.t_ms);
-    up_minute_.bind(3, a.min);
-    up_minute_.bind(4, a.max);
-    up_minute_.bind(5, a.sum);
-    up_minute_.bind(6, a.count);
+    bind_agg(up_minute_, a);
     ok = step_reset(up_minute_, "updating minute rollup");
   }
   for (size_t i = 0; ok && i < hour.aggs().size(); ++i) {
     const Agg& a = hour.aggs()[i];
-    up_hour_.bind(1, a.series_id);
-    up_hour_.bind(2, a.t_ms);
-    up_hour_.bind(3, a.min);
-    up_hour_.bind(4, a.max);
-    up_hour_.bind(5, a.sum);
-    up_hour_.bind(6, a.count);
+    bind_agg(up_hour_, a);
     ok = step_reset(up_hour_, "updating hour rollup");
   }
   for (size_t i = 0; ok && i < b.events.size(); ++i) {
@@ -390,35 +393,42 @@ base::Result<int64_t> WriterDb::prune_oldest_for_size() {
   }
   const int64_t limit = config_.prune_batch_rows;
   if (oldest_series != 0) {
-    prune_raw_.bind(1, oldest_series);
-    prune_raw_.bind(2, oldest + kSizeCapChunkMs);
-    prune_raw_.bind(3, limit);
-    return run_delete(prune_raw_, "raw readings for the size cap");
+    Stmt& st = prune_series_[kReadings];
+    st.bind(1, oldest_series);
+    st.bind(2, oldest + kSizeCapChunkMs);
+    st.bind(3, limit);
+    return run_delete(st, "raw readings for the size cap");
   }
-  prune_snap_age_.bind(1, std::numeric_limits<int64_t>::max());
-  prune_snap_age_.bind(2, std::min<int64_t>(limit, 100));
-  return run_delete(prune_snap_age_, "snapshots for the size cap");
+  Stmt& st = prune_age_[kSnapshots];
+  st.bind(1, std::numeric_limits<int64_t>::max());
+  st.bind(2, std::min<int64_t>(limit, 100));
+  return run_delete(st, "snapshots for the size cap");
 }
 
 base::Result<int64_t> WriterDb::prune_step(int64_t now_ms, bool* more) {
   const RetentionConfig& r = config_.retention;
   const int64_t limit = config_.prune_batch_rows;
-  enum Task { kRaw, kMinute, kHour, kSnapAge, kSnapCount, kEvents, kAnnotations, kSize, kDone };
+  // Tasks in order: the per-series tables (raw, minute, hour), the tables pruned by age
+  // (snapshots, alarm events, annotations), the per-channel snapshot count, the size cap.
+  const int series_days[kNumSeriesTables] = {r.raw_days, r.minute_rollup_days,
+                                             r.hour_rollup_days};
+  const int age_days[kNumAgeTables] = {r.snapshot_days, r.event_days, r.event_days};
+  const char* const age_what[kNumAgeTables] = {"old snapshots", "old alarm events",
+                                               "old annotations"};
+  constexpr int kFirstAge = kNumSeriesTables, kSnapCount = kFirstAge + kNumAgeTables,
+                kSize = kSnapCount + 1, kDone = kSize + 1;
   *more = true;
   while (task_ < kDone) {
-    if (task_ <= kHour) {
+    if (task_ < kFirstAge) {
       if (series_cursor_ == 0) {
         series_.clear();
         while (series_ids_.step() == SQLITE_ROW) series_.push_back(series_ids_.col_int(0));
         series_ids_.reset();
       }
-      Stmt& st = task_ == kRaw ? prune_raw_ : task_ == kMinute ? prune_minute_ : prune_hour_;
-      const int days = task_ == kRaw      ? r.raw_days
-                       : task_ == kMinute ? r.minute_rollup_days
-                                          : r.hour_rollup_days;
+      Stmt& st = prune_series_[task_];
       while (series_cursor_ < series_.size()) {
         st.bind(1, series_[series_cursor_]);
-        st.bind(2, now_ms - days * kDayMs);
+        st.bind(2, now_ms - series_days[task_] * kDayMs);
         st.bind(3, limit);
         auto n = run_delete(st, "rows past retention");
         if (!n.ok()) return n;
@@ -430,39 +440,23 @@ base::Result<int64_t> WriterDb::prune_step(int64_t now_ms, bool* more) {
       continue;
     }
     base::Result<int64_t> n = int64_t{0};
-    switch (task_) {
-      case kSnapAge:
-        prune_snap_age_.bind(1, now_ms - r.snapshot_days * kDayMs);
-        prune_snap_age_.bind(2, limit);
-        n = run_delete(prune_snap_age_, "old snapshots");
-        break;
-      case kSnapCount:
-        prune_snap_count_.bind(1, r.snapshots_per_channel);
-        prune_snap_count_.bind(2, limit);
-        n = run_delete(prune_snap_count_, "snapshots over the per-channel count");
-        break;
-      case kEvents:
-        prune_events_.bind(1, now_ms - r.event_days * kDayMs);
-        prune_events_.bind(2, limit);
-        n = run_delete(prune_events_, "old alarm events");
-        break;
-      case kAnnotations:
-        prune_annotations_.bind(1, now_ms - r.event_days * kDayMs);
-        prune_annotations_.bind(2, limit);
-        n = run_delete(prune_annotations_, "old annotations");
-        break;
-      case kSize: {
-        if (r.max_db_bytes <= 0) break;
-        int64_t live = 0;
-        if (live_bytes_.step() == SQLITE_ROW) live = live_bytes_.col_int(0);
-        live_bytes_.reset();
-        if (live > r.max_db_bytes) {
-          n = prune_oldest_for_size();
-          if (n.ok() && *n > 0) return n;  // stay on this task until under the cap
-        }
-        break;
+    if (task_ < kSnapCount) {
+      Stmt& st = prune_age_[task_ - kFirstAge];
+      st.bind(1, now_ms - age_days[task_ - kFirstAge] * kDayMs);
+      st.bind(2, limit);
+      n = run_delete(st, age_what[task_ - kFirstAge]);
+    } else if (task_ == kSnapCount) {
+      prune_snap_count_.bind(1, r.snapshots_per_channel);
+      prune_snap_count_.bind(2, limit);
+      n = run_delete(prune_snap_count_, "snapshots over the per-channel count");
+    } else if (r.max_db_bytes > 0) {
+      int64_t live = 0;
+      if (live_bytes_.step() == SQLITE_ROW) live = live_bytes_.col_int(0);
+      live_bytes_.reset();
+      if (live > r.max_db_bytes) {
+        n = prune_oldest_for_size();
+        if (n.ok() && *n > 0) return n;  // stay on this task until under the cap
       }
-      default: break;
     }
     if (!n.ok()) return n;
     if (*n < limit) ++task_;

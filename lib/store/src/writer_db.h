@@ -64,9 +64,11 @@ class WriterDb {
   Stmt begin_, commit_, rollback_;
   Stmt ins_series_, ins_run_, upd_run_, ins_reading_, up_minute_, up_hour_;
   Stmt ins_event_, ins_snapshot_, ins_annotation_;
-  Stmt prune_raw_, prune_minute_, prune_hour_, prune_snap_age_, prune_snap_count_;
-  Stmt prune_events_, prune_annotations_, oldest_raw_, oldest_snapshot_, series_ids_;
-  Stmt live_bytes_, checkpoint_;
+  // Retention deletes: per series (by kReadings.. index) and by age (kSnapshots.. index).
+  enum SeriesTable { kReadings, kRollupMinute, kRollupHour, kNumSeriesTables };
+  enum AgeTable { kSnapshots, kAlarmEvents, kAnnotations, kNumAgeTables };
+  Stmt prune_series_[kNumSeriesTables], prune_age_[kNumAgeTables], prune_snap_count_;
+  Stmt oldest_raw_, newest_raw_, series_ids_, live_bytes_, checkpoint_;
   int task_ = 0;            // which retention task runs next
   size_t series_cursor_ = 0;  // per-series tasks walk the dictionary
   std::vector<int64_t> series_;
