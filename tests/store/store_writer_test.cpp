@@ -113,6 +113,24 @@ TEST(StoreWriterTest, FullQueueRejectsNewestWholeAppendAndCountsIt) {
   EXPECT_TRUE(w->append(Reading{*id, kT0 + 9, 1.0}));  // room again after the commit
 }
 
+TEST(StoreWriterTest, EmptyAppendIsAcceptedAndDoesNotStallFlushOrStop) {
+  TempDir dir;
+  auto c = fast_config(dir.file("h.db"));
+  auto w = open_writer(c);
+  ASSERT_TRUE(w);
+  auto id = w->register_series({"rig", "ch", "m", ""});
+  ASSERT_TRUE(id.ok());
+  ASSERT_TRUE(w->append(Reading{*id, kT0, 1.0}));
+  EXPECT_TRUE(w->append(std::span<const Reading>()));  // e.g. the tail of a chunked write
+  // Expected: both return at once; before the fix each waited its whole timeout for a
+  // commit of the empty append that never came.
+  EXPECT_TRUE(w->flush(std::chrono::seconds(5)).ok());
+  EXPECT_EQ(w->num_dropped(), 0);
+  EXPECT_EQ(sqlite_shell(c.path, "SELECT count(*) FROM readings"), "1");
+  EXPECT_TRUE(w->append(std::span<const Reading>()));
+  EXPECT_TRUE(w->stop(std::chrono::seconds(5)).ok());
+}
+
 TEST(StoreWriterTest, RejectsUnknownSeriesAndNonFiniteValues) {
   TempDir dir;
   auto w = open_writer(fast_config(dir.file("h.db")));

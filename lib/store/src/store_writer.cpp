@@ -152,6 +152,9 @@ bool StoreWriter::append(const Reading& r) { return append(std::span<const Readi
 
 bool StoreWriter::append(std::span<const Reading> readings) {
   std::lock_guard lock(impl_->mu);
+  // Nothing to queue. Taking a sequence number here would make every later flush() wait for
+  // a commit that never comes (an empty batch is never written).
+  if (readings.empty()) return !impl_->stopping;
   for (const Reading& r : readings) {
     if (r.series_id < 1 || r.series_id >= impl_->next_series_id || !std::isfinite(r.value)) {
       impl_->n_dropped += static_cast<int64_t>(readings.size());
