@@ -4,7 +4,9 @@
 // retried with backoff (100 ms doubling to 5 s) until it commits, so nothing accepted is lost;
 // meanwhile `queued_` (pending + incoming) caps memory and further appends are rejected and
 // counted. Retention runs between batches in steps of prune_batch_rows, one step per loop
-// turn, so a long prune never holds up a commit by more than one small transaction.
+// turn, so a long prune never holds up a commit by more than one small transaction. The size
+// cap is checked after every commit; while over it, its steps run back to back (still one per
+// turn, between commits) ahead of age retention.
 #include "tonewarden/store/store_writer.h"
 
 #include <algorithm>
@@ -28,6 +30,7 @@ namespace {
 constexpr milliseconds kFirstRetry{100};
 constexpr milliseconds kMaxRetry{5000};
 constexpr milliseconds kPruneStepGap{5};  // pause between retention steps while more remain
+constexpr milliseconds kSizeCapTurn{50};   // size-cap work between two commits, at most
 
 struct SeriesKeyHash {
   size_t operator()(const SeriesKey& k) const noexcept {
@@ -98,7 +101,13 @@ struct StoreWriter::Impl {
 
   explicit Impl(detail::WriterDb d) : db(std::move(d)) {}
   void run();
-  void on_write_result(const base::Result<detail::WriteOutcome>& r, bool disk_full);
+  void on_write_result(const base::Result<detail::WriteOutcome>& r, bool disk_full,
+                       int64_t live_bytes);
+  void on_size_state(int64_t live_bytes, bool over, bool unmet);
+  bool exiting_soon() {  // stop() was called: flush first, housekeeping can wait for next run
+    std::lock_guard lock(mu);
+    return stopping;
+  }
   bool admit(size_t n) {  // mu held
     if (stopping || queued + n > config.queue_capacity) {
       n_dropped += static_cast<int64_t>(n);
@@ -246,7 +255,7 @@ base::Status StoreWriter::stop(milliseconds timeout) {
 }
 
 void StoreWriter::Impl::on_write_result(const base::Result<detail::WriteOutcome>& r,
-                                        bool disk_full) {
+                                        bool disk_full, int64_t live_bytes) {
   std::lock_guard lock(mu);
   if (r.ok()) {
     committed_seq = pending.last_seq;
@@ -255,7 +264,22 @@ void StoreWriter::Impl::on_write_result(const base::Result<detail::WriteOutcome>
     n_readings += r->readings_written;
     n_duplicates += r->duplicates;
     if (!health.ok) base::log_info("store: writing to " + config.path + " again");
-    health = StoreHealth{true, false, "", health.num_faults};
+    health.ok = true;
+    health.disk_full = false;
+    health.last_error.clear();
+    // Set together with committed_seq, so that a flush() that returns already sees whether
+    // this commit put the store over its size cap.
+    if (live_bytes >= 0) {
+      health.live_bytes = live_bytes;
+      const double cap = static_cast<double>(config.retention.max_db_bytes);
+      if (static_cast<double>(live_bytes) > kSizeCapHighWater * cap && !health.over_size_cap) {
+        base::log_info("store: " + config.path + " uses " + std::to_string(live_bytes) +
+                       " bytes, over " + std::to_string(static_cast<int>(kSizeCapHighWater * 100)) +
+                       " % of its " + std::to_string(config.retention.max_db_bytes) +
+                       "-byte cap; dropping the oldest raw readings");
+        health.over_size_cap = true;
+      }
+    }
     committed.notify_all();
     return;
   }
@@ -268,6 +292,23 @@ void StoreWriter::Impl::on_write_result(const base::Result<detail::WriteOutcome>
   health.last_error = r.error().message;
 }
 
+void StoreWriter::Impl::on_size_state(int64_t live_bytes, bool over, bool unmet) {
+  std::lock_guard lock(mu);
+  health.live_bytes = live_bytes;
+  health.over_size_cap = over;
+  if (unmet != health.size_cap_unmet) {  // log once per state change
+    if (unmet) {
+      base::log_warn("store: " + config.path + " uses " + std::to_string(live_bytes) +
+                     " bytes with no raw reading or snapshot left to drop; rollups and the "
+                     "alarm log alone exceed the size cap of " +
+                     std::to_string(config.retention.max_db_bytes) + " bytes");
+    } else {
+      base::log_info("store: " + config.path + " is within its size cap again");
+    }
+  }
+  health.size_cap_unmet = unmet;
+}
+
 void StoreWriter::Impl::run() {
   auto next_commit = Clock::now() + config.commit_interval;
   auto next_prune = Clock::now() + config.prune_interval;
@@ -275,12 +316,17 @@ void StoreWriter::Impl::run() {
   Clock::time_point retry_at{};
   milliseconds backoff = kFirstRetry;
   bool prune_more = false;
+  const bool capped = config.retention.max_db_bytes > 0;
+  const double high_water = kSizeCapHighWater * static_cast<double>(config.retention.max_db_bytes);
+  // The cap may have been lowered since the last run: check once before the first batch.
+  bool size_more = capped && static_cast<double>(db.live_bytes()) > high_water;
   for (;;) {
     bool exiting = false;
     {
       std::unique_lock lock(mu);
       auto until = pending.empty() ? next_commit : retry_at;
       if (prune_more) until = std::min(until, Clock::now() + kPruneStepGap);
+      if (size_more) until = Clock::now();  // the cap comes first: no pause between its steps
       if (stopping) until = std::min(until, stop_deadline);
       wake.wait_until(lock, until, [&] {
         return (flush_requested || stopping) && (pending.empty() || Clock::now() >= retry_at);
@@ -293,7 +339,9 @@ void StoreWriter::Impl::run() {
     if (!pending.empty() && now >= retry_at) {
       bool disk_full = false;
       auto r = db.write(pending, &disk_full);
-      on_write_result(r, disk_full);
+      const int64_t live = r.ok() && capped ? db.live_bytes() : -1;
+      on_write_result(r, disk_full, live);
+      if (live >= 0 && static_cast<double>(live) > high_water) size_more = true;
       if (r.ok()) {
         pending.clear();
         backoff = kFirstRetry;
@@ -305,6 +353,28 @@ void StoreWriter::Impl::run() {
     if (now >= next_commit) next_commit = now + config.commit_interval;
     if (exiting) break;
     if (!pending.empty()) continue;  // storage fault: no housekeeping until writes work
+    if (size_more && !exiting_soon()) {
+      // Steps back to back for up to kSizeCapTurn, then the next batch gets its turn: the
+      // cap gets most of the writer's time without holding a commit for long.
+      const auto turn_end = Clock::now() + kSizeCapTurn;
+      bool unmet = false;
+      int64_t freed_rows = 0;
+      while (size_more && Clock::now() < turn_end) {
+        auto n = db.size_step(&size_more, &unmet);
+        if (!n.ok()) {
+          size_more = false;
+          base::log_warn("store: " + n.error().message);
+          break;
+        }
+        freed_rows += *n;
+      }
+      {
+        std::lock_guard lock(mu);
+        n_pruned += freed_rows;
+      }
+      on_size_state(db.live_bytes(), size_more, unmet);
+      continue;
+    }
     if (prune_more || now >= next_prune) {
       if (!prune_more) next_prune = now + config.prune_interval;
       auto n = db.prune_step(base::wall_now().unix_ms, &prune_more);
@@ -359,7 +429,9 @@ std::string StoreWriter::describe() const {
          " ms, queue " + std::to_string(c.queue_capacity) + " items (reject newest), raw " +
          std::to_string(c.retention.raw_days) + " d, minute " +
          std::to_string(c.retention.minute_rollup_days) + " d, hour " +
-         std::to_string(c.retention.hour_rollup_days) + " d";
+         std::to_string(c.retention.hour_rollup_days) + " d, size cap " +
+         (c.retention.max_db_bytes > 0 ? std::to_string(c.retention.max_db_bytes) + " bytes"
+                                       : std::string("none"));
 }
 
 }  // namespace tonewarden::store

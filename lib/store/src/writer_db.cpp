@@ -24,7 +24,12 @@ namespace {
 constexpr int64_t kMinuteMs = 60'000;
 constexpr int64_t kHourMs = 3'600'000;
 constexpr int64_t kDayMs = 86'400'000;
-constexpr int64_t kSizeCapChunkMs = kHourMs;  // raw readings freed per size-cap step, oldest first
+// The size cap drops raw readings in rounds of this share of their time span, re-measuring
+// between rounds: small enough not to overshoot the low-water mark by much, large enough to
+// need few rounds.
+constexpr int64_t kSizeCapRoundsPerSpan = 64;
+constexpr int64_t kSnapshotsPerSizeStep = 100;  // at most per transaction
+constexpr int64_t kSnapshotRowBytes = 200;      // a snapshot row besides its codes (estimate)
 
 int64_t floor_to(int64_t t, int64_t step) {
   const int64_t q = t / step;
@@ -216,6 +221,9 @@ base::Status WriterDb::prepare_all() {
       {&newest_raw_,
        "SELECT t_ms FROM readings WHERE series_id = ?1 ORDER BY t_ms DESC LIMIT 1"},
       {&series_ids_, "SELECT id FROM series ORDER BY id"},
+      {&oldest_snapshot_bins_, "SELECT bins FROM snapshots ORDER BY t_ms, id"},
+      {&drop_oldest_snapshots_, "DELETE FROM snapshots WHERE id IN "
+                                "(SELECT id FROM snapshots ORDER BY t_ms, id LIMIT ?1)"},
       {&live_bytes_,
        "SELECT ((SELECT page_count FROM pragma_page_count()) - "
        "(SELECT freelist_count FROM pragma_freelist_count())) * "
@@ -380,51 +388,115 @@ base::Result<int64_t> WriterDb::run_delete(Stmt& st, const char* what) {
   return db_.changes();
 }
 
-base::Result<int64_t> WriterDb::prune_oldest_for_size() {
-  int64_t oldest = std::numeric_limits<int64_t>::max();
-  int64_t oldest_series = 0;
-  for (int64_t id : series_) {
-    oldest_raw_.bind(1, id);
-    if (oldest_raw_.step() == SQLITE_ROW && oldest_raw_.col_int(0) < oldest) {
-      oldest = oldest_raw_.col_int(0);
-      oldest_series = id;
-    }
-    oldest_raw_.reset();
-  }
+void WriterDb::load_series_ids(std::vector<int64_t>* out) {
+  out->clear();
+  while (series_ids_.step() == SQLITE_ROW) out->push_back(series_ids_.col_int(0));
+  series_ids_.reset();
+}
+
+int64_t WriterDb::live_bytes() {
+  int64_t live = 0;
+  if (live_bytes_.step() == SQLITE_ROW) live = live_bytes_.col_int(0);
+  live_bytes_.reset();
+  return live;
+}
+
+base::Result<int64_t> WriterDb::size_step(bool* more, bool* unmet) {
+  const int64_t cap = config_.retention.max_db_bytes;
   const int64_t limit = config_.prune_batch_rows;
-  if (oldest_series != 0) {
-    Stmt& st = prune_series_[kReadings];
-    st.bind(1, oldest_series);
-    st.bind(2, oldest + kSizeCapChunkMs);
-    st.bind(3, limit);
-    return run_delete(st, "raw readings for the size cap");
+  *more = true;
+  *unmet = false;
+  if (size_cutoff_ == kNoCutoff) {
+    const int64_t live = live_bytes();
+    const int64_t excess = live - static_cast<int64_t>(kSizeCapLowWater * static_cast<double>(cap));
+    if (cap <= 0 || excess <= 0) {
+      *more = false;
+      return int64_t{0};
+    }
+    load_series_ids(&size_series_);
+    int64_t oldest = std::numeric_limits<int64_t>::max();
+    int64_t newest = std::numeric_limits<int64_t>::min();
+    for (int64_t id : size_series_) {
+      oldest_raw_.bind(1, id);
+      if (oldest_raw_.step() == SQLITE_ROW) oldest = std::min(oldest, oldest_raw_.col_int(0));
+      oldest_raw_.reset();
+      newest_raw_.bind(1, id);
+      if (newest_raw_.step() == SQLITE_ROW) newest = std::max(newest, newest_raw_.col_int(0));
+      newest_raw_.reset();
+    }
+    if (oldest > newest) return drop_snapshots_for_size(excess, more, unmet);
+    // This round's cutoff: the share of the raw time span that the excess is of all pages in
+    // use. Raw rows are only part of those pages, so a round frees at most the excess (rounds
+    // repeat until under the low-water mark); at least 1/64 of the span so rounds stay few.
+    const double span = static_cast<double>(newest - oldest);
+    const double share = std::max(static_cast<double>(excess) / static_cast<double>(live),
+                                  1.0 / kSizeCapRoundsPerSpan);
+    size_cutoff_ = oldest + std::max<int64_t>(1, static_cast<int64_t>(share * span));
+    size_cursor_ = 0;
   }
-  Stmt& st = prune_age_[kSnapshots];
-  st.bind(1, std::numeric_limits<int64_t>::max());
-  st.bind(2, std::min<int64_t>(limit, 100));
-  return run_delete(st, "snapshots for the size cap");
+  // Apply the cutoff to every series before measuring again, so that the readings kept are
+  // exactly those at or after one time. Up to prune_batch_rows rows per transaction.
+  if (auto s = begin_.run("BEGIN IMMEDIATE for the size cap"); !s.ok()) return std::move(s).error();
+  int64_t deleted = 0;
+  Stmt& st = prune_series_[kReadings];
+  while (size_cursor_ < size_series_.size() && deleted < limit) {
+    st.bind(1, size_series_[size_cursor_]);
+    st.bind(2, size_cutoff_);
+    st.bind(3, limit - deleted);
+    auto n = run_delete(st, "raw readings for the size cap");
+    if (!n.ok()) {
+      (void)rollback_.run("ROLLBACK");
+      size_cutoff_ = kNoCutoff;
+      return n;
+    }
+    deleted += *n;
+    if (deleted < limit) ++size_cursor_;  // this series has nothing left below the cutoff
+  }
+  if (auto s = commit_.run("COMMIT of the size cap"); !s.ok()) {
+    if (!sqlite3_get_autocommit(db_.get())) (void)rollback_.run("ROLLBACK");
+    size_cutoff_ = kNoCutoff;
+    return std::move(s).error();
+  }
+  if (size_cursor_ >= size_series_.size()) size_cutoff_ = kNoCutoff;  // round done: re-measure
+  return deleted;
+}
+
+base::Result<int64_t> WriterDb::drop_snapshots_for_size(int64_t excess, bool* more,
+                                                        bool* unmet) {
+  // Count the oldest snapshots whose codes add up to the excess (2 bytes per bin plus the
+  // row's other columns), so that a step does not free far more than needed.
+  int64_t n = 0, bytes = 0;
+  const int64_t most = std::min<int64_t>(config_.prune_batch_rows, kSnapshotsPerSizeStep);
+  while (n < most && bytes < excess && oldest_snapshot_bins_.step() == SQLITE_ROW) {
+    bytes += 2 * oldest_snapshot_bins_.col_int(0) + kSnapshotRowBytes;
+    ++n;
+  }
+  oldest_snapshot_bins_.reset();
+  if (n == 0) {
+    *more = false;
+    *unmet = true;
+    return int64_t{0};
+  }
+  drop_oldest_snapshots_.bind(1, n);
+  return run_delete(drop_oldest_snapshots_, "snapshots for the size cap");
 }
 
 base::Result<int64_t> WriterDb::prune_step(int64_t now_ms, bool* more) {
   const RetentionConfig& r = config_.retention;
   const int64_t limit = config_.prune_batch_rows;
   // Tasks in order: the per-series tables (raw, minute, hour), the tables pruned by age
-  // (snapshots, alarm events, annotations), the per-channel snapshot count, the size cap.
+  // (snapshots, alarm events, annotations), the per-channel snapshot count.
   const int series_days[kNumSeriesTables] = {r.raw_days, r.minute_rollup_days,
                                              r.hour_rollup_days};
   const int age_days[kNumAgeTables] = {r.snapshot_days, r.event_days, r.event_days};
   const char* const age_what[kNumAgeTables] = {"old snapshots", "old alarm events",
                                                "old annotations"};
   constexpr int kFirstAge = kNumSeriesTables, kSnapCount = kFirstAge + kNumAgeTables,
-                kSize = kSnapCount + 1, kDone = kSize + 1;
+                kDone = kSnapCount + 1;
   *more = true;
   while (task_ < kDone) {
     if (task_ < kFirstAge) {
-      if (series_cursor_ == 0) {
-        series_.clear();
-        while (series_ids_.step() == SQLITE_ROW) series_.push_back(series_ids_.col_int(0));
-        series_ids_.reset();
-      }
+      if (series_cursor_ == 0) load_series_ids(&series_);
       Stmt& st = prune_series_[task_];
       while (series_cursor_ < series_.size()) {
         st.bind(1, series_[series_cursor_]);
@@ -445,18 +517,10 @@ base::Result<int64_t> WriterDb::prune_step(int64_t now_ms, bool* more) {
       st.bind(1, now_ms - age_days[task_ - kFirstAge] * kDayMs);
       st.bind(2, limit);
       n = run_delete(st, age_what[task_ - kFirstAge]);
-    } else if (task_ == kSnapCount) {
+    } else {
       prune_snap_count_.bind(1, r.snapshots_per_channel);
       prune_snap_count_.bind(2, limit);
       n = run_delete(prune_snap_count_, "snapshots over the per-channel count");
-    } else if (r.max_db_bytes > 0) {
-      int64_t live = 0;
-      if (live_bytes_.step() == SQLITE_ROW) live = live_bytes_.col_int(0);
-      live_bytes_.reset();
-      if (live > r.max_db_bytes) {
-        n = prune_oldest_for_size();
-        if (n.ok() && *n > 0) return n;  // stay on this task until under the cap
-      }
     }
     if (!n.ok()) return n;
     if (*n < limit) ++task_;

@@ -3,6 +3,7 @@
 #pragma once
 
 #include <cstdint>
+#include <limits>
 #include <string>
 #include <utility>
 #include <vector>
@@ -49,15 +50,23 @@ class WriterDb {
   // whether the cause was SQLITE_FULL.
   base::Result<WriteOutcome> write(const Batch& b, bool* disk_full);
 
-  // One retention step of at most prune_batch_rows rows in its own transaction.
+  // One age/count retention step of at most prune_batch_rows rows in its own transaction.
   // Returns rows deleted; *more is true when that task has rows left.
   base::Result<int64_t> prune_step(int64_t now_ms, bool* more);
+
+  // Pages in use (page_count - freelist_count) times the page size.
+  int64_t live_bytes();
+  // One size-cap step (see "Size cap" in store_writer.h), at most prune_batch_rows rows.
+  // *more stays true while use is above the low-water mark and something can still go;
+  // *unmet is set when use is above it and no raw reading or snapshot is left.
+  base::Result<int64_t> size_step(bool* more, bool* unmet);
   void checkpoint();
 
  private:
   base::Status prepare_all();
   base::Result<int64_t> run_delete(Stmt& st, const char* what);
-  base::Result<int64_t> prune_oldest_for_size();
+  void load_series_ids(std::vector<int64_t>* out);
+  base::Result<int64_t> drop_snapshots_for_size(int64_t excess, bool* more, bool* unmet);
 
   StoreConfig config_;
   Db db_;
@@ -69,9 +78,15 @@ class WriterDb {
   enum AgeTable { kSnapshots, kAlarmEvents, kAnnotations, kNumAgeTables };
   Stmt prune_series_[kNumSeriesTables], prune_age_[kNumAgeTables], prune_snap_count_;
   Stmt oldest_raw_, newest_raw_, series_ids_, live_bytes_, checkpoint_;
+  Stmt oldest_snapshot_bins_, drop_oldest_snapshots_;
   int task_ = 0;            // which retention task runs next
   size_t series_cursor_ = 0;  // per-series tasks walk the dictionary
   std::vector<int64_t> series_;
+  // Size cap: the raw cutoff being applied (kNoCutoff between rounds), series by series.
+  static constexpr int64_t kNoCutoff = std::numeric_limits<int64_t>::min();
+  int64_t size_cutoff_ = kNoCutoff;
+  size_t size_cursor_ = 0;
+  std::vector<int64_t> size_series_;
 };
 
 }  // namespace tonewarden::store::detail

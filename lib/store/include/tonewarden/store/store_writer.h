@@ -38,9 +38,20 @@ struct RetentionConfig {
   int snapshot_days = 90;              // snapshots older than this are pruned (>= 1)
   int64_t snapshots_per_channel = 5000;  // and at most this many per (rig, channel) (>= 1)
   int event_days = 3650;               // alarm events and annotations
-  int64_t max_db_bytes = 0;            // 0: no cap; else oldest raw readings and snapshots
-                                       // go first until live pages fit (>= 1 MiB)
+  int64_t max_db_bytes = 0;            // 0: no cap; else >= 1 MiB, see "Size cap" below
 };
+
+// Size cap (retention.max_db_bytes). After every commit the writer measures the pages in use
+// (page_count - freelist_count). Above kSizeCapHighWater of the cap it frees space, between
+// commits, until use is at or below kSizeCapLowWater: first the oldest raw readings, at one
+// time cutoff for all series (so nothing newer than a dropped reading is dropped), and only
+// when no raw reading is left, the oldest snapshots. Rollups, alarm events, annotations, runs
+// and the series dictionary are never dropped for size. Freed pages are reused, so the file
+// (database + WAL after a checkpoint) stays at or below the cap as long as one commit adds
+// less than (1 - kSizeCapHighWater) of it. The file does not shrink below its high-water
+// mark without a VACUUM.
+inline constexpr double kSizeCapHighWater = 0.9;
+inline constexpr double kSizeCapLowWater = 0.8;
 
 struct StoreConfig {
   std::string path;                    // database file; its directory must exist and be writable
@@ -65,6 +76,9 @@ struct StoreHealth {
   bool disk_full = false;    // the failure was SQLITE_FULL (disk or page cap)
   std::string last_error;    // one line; empty when ok
   int64_t num_faults = 0;    // ok -> fault transitions since open
+  int64_t live_bytes = 0;    // pages in use x page size, after the last commit or size step
+  bool over_size_cap = false;   // above the high-water mark: dropping oldest rows for size
+  bool size_cap_unmet = false;  // over it with no raw reading or snapshot left to drop
 };
 
 class StoreWriter {
