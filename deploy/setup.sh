@@ -9,6 +9,7 @@ packages=(
   libfftw3-dev libsndfile1-dev portaudio19-dev libasound2-dev alsa-utils
   libcpp-httplib-dev libsqlite3-dev sqlite3 libspdlog-dev nlohmann-json3-dev
   libtomlplusplus-dev libcli11-dev libsystemd-dev libmosquitto-dev
+  mosquitto mosquitto-clients  # the notify tests start a private broker on a free loopback port
   libgtest-dev libgmock-dev libbenchmark-dev
   libcurl4-openssl-dev python3-numpy python3-scipy flac
   prometheus  # promtool lints /metrics in the http tests (installed without recommends)
