@@ -18,6 +18,7 @@
 #include "tonewarden/config/dump.h"
 #include "tonewarden/config/loader.h"
 #include "tonewarden/dsp/fft.h"
+#include "tonewarden/notify/mqtt_sink.h"
 #include "tonewarden/notify/notifier.h"
 #include "reload.h"
 #include "web_server.h"
@@ -96,22 +97,30 @@ store::StoreConfig to_store_config(const config::Config& c) {
   return s;
 }
 
-// Hands each alarm event to the web stream and to the notifiers.
+// Hands each alarm event to the web stream and to the notifiers, and readings to MQTT.
 class EventFanout : public pipeline::RigEventSink {
  public:
-  EventFanout(pipeline::RigEventSink* web, notify::Notifier* notifier) : web_(web), notifier_(notifier) {}
+  EventFanout(pipeline::RigEventSink* web, notify::Notifier* notifier, notify::MqttSink* mqtt)
+      : web_(web), notifier_(notifier), mqtt_(mqtt) {}
   void on_alarm_event(const std::string& rig, const alarm::AlarmEvent& e) override {
     web_->on_alarm_event(rig, e);
     if (notifier_->num_sinks() > 0) notifier_->post(notify::make_notify_event(rig, e));
   }
-  void on_readings(const std::string& rig, const track::ReadingSet& r) override { web_->on_readings(rig, r); }
+  void on_readings(const std::string& rig, const track::ReadingSet& r) override {
+    web_->on_readings(rig, r);
+    if (mqtt_) mqtt_->offer_readings(rig, r);  // try_lock and copy: never waits on the broker
+  }
 
  private:
   pipeline::RigEventSink* web_;
   notify::Notifier* notifier_;
+  notify::MqttSink* mqtt_;  // null when MQTT is off; owned by the Notifier
 };
 
-base::Result<std::vector<std::unique_ptr<notify::Sink>>> make_sinks(const config::NotifyConfig& n) {
+// `*mqtt` is left pointing at the MQTT sink (one broker connection per rig), or null.
+base::Result<std::vector<std::unique_ptr<notify::Sink>>> make_sinks(const config::NotifyConfig& n,
+                                                                     const std::vector<config::RigConfig>& rigs,
+                                                                     notify::MqttSink** mqtt) {
   std::vector<std::unique_ptr<notify::Sink>> sinks;
   auto sev = [](config::Severity s) { return s == config::Severity::kCritical ? "critical" : "warning"; };
   if (!n.webhook.url.empty()) {
@@ -131,6 +140,24 @@ base::Result<std::vector<std::unique_ptr<notify::Sink>>> make_sinks(const config
     e.min_severity = sev(n.exec.min_severity);
     auto s = notify::make_exec_sink(e);
     if (!s) return std::move(s).error();
+    sinks.push_back(std::move(s).value());
+  }
+  if (n.mqtt.enabled) {
+    notify::MqttConfig m;
+    m.host = n.mqtt.host;
+    m.port = static_cast<int>(n.mqtt.port);
+    m.topic_prefix = n.mqtt.topic_prefix;
+    m.client_id = n.mqtt.client_id;
+    m.qos = static_cast<int>(n.mqtt.qos);
+    m.keepalive_s = static_cast<int>(n.mqtt.keepalive_s);
+    m.username = n.mqtt.username;
+    m.password_file = n.mqtt.password_file;
+    m.publish_readings = n.mqtt.publish_readings;
+    for (const config::RigConfig& r : rigs) m.rigs.push_back(r.name);
+    auto s = notify::make_mqtt_sink(m);
+    if (!s) return std::move(s).error();
+    base::log_info("notify: " + (*s)->describe());
+    *mqtt = s->get();
     sinks.push_back(std::move(s).value());
   }
   return sinks;
@@ -207,13 +234,14 @@ int run_daemon(const DaemonOptions& options) {
       {0, base::wall_now(), {}, config::config_hash(loaded.tree), TONEWARDEN_VERSION});
 
   WebServer web(cfg, store->get());
-  auto sinks = make_sinks(cfg.notify);
+  notify::MqttSink* mqtt = nullptr;
+  auto sinks = make_sinks(cfg.notify, cfg.rigs, &mqtt);
   if (!sinks) {
     std::fprintf(stderr, "tonewarden run: notify: %s\n", sinks.error().message.c_str());
     return kExitUsage;
   }
   notify::Notifier notifier_out(std::move(sinks).value());
-  EventFanout fanout(web.event_sink(), &notifier_out);
+  EventFanout fanout(web.event_sink(), &notifier_out, mqtt);
   RigBuildOptions build_options;
   build_options.data_dir = cfg.daemon.data_dir;
   build_options.planning = planning;
@@ -315,6 +343,7 @@ int run_daemon(const DaemonOptions& options) {
   }
   web.stop();
   notifier_out.stop();
+  if (mqtt) mqtt->stop();  // retained "offline", then a clean disconnect
   rigs.clear();
   base::log_info("stopped in " +
                  std::to_string(static_cast<int>(std::chrono::duration<double, std::milli>(
