@@ -3,6 +3,7 @@
 #include <gtest/gtest.h>
 #include <signal.h>
 #include <sys/mount.h>
+#include <sys/resource.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -10,7 +11,9 @@
 #include <cerrno>
 #include <cstring>
 #include <filesystem>
+#include <map>
 #include <random>
+#include <sstream>
 
 #include "kill_harness.h"
 #include "store_test_util.h"
@@ -22,6 +25,7 @@ namespace {
 
 using testing::fast_config;
 using testing::kT0;
+using testing::sqlite_shell;
 using testing::TempDir;
 
 TEST(DurabilityTest, KillNineDuringHeavyWritesLeavesOnlyWholeCommittedBatches) {
@@ -180,6 +184,106 @@ TEST(DurabilityTest, PageCapActsAsFullDiskWithoutLosingCommittedRows) {
   EXPECT_GE((*r)->count_readings(id, {kT0}, {kT0 + 100}).value(), 100);
   EXPECT_EQ((*r)->integrity_check().value(), "ok");
   EXPECT_FALSE((*w)->stop(std::chrono::milliseconds(200)).ok());  // queue could not drain
+}
+
+// Child side of the file-size-limit test: writes until the limit bites, keeps appending until
+// the queue rejects, lifts the limit, flushes. Reports "key value" lines on `fd`; never returns.
+[[noreturn]] void file_limit_child(const std::string& path, int fd) {
+  std::ostringstream out;
+  auto report = [&](int code) {
+    const std::string text = out.str();
+    if (write(fd, text.data(), text.size()) != static_cast<ssize_t>(text.size())) _exit(9);
+    _exit(code);
+  };
+  auto c = fast_config(path);
+  c.queue_capacity = 20'000;
+  auto w = StoreWriter::create(c);
+  if (!w.ok()) report(3);
+  const SeriesId id = (*w)->register_series({"r", "c", "m", ""}).value();
+  int64_t accepted = 0, t = kT0;
+  auto push = [&](int n) {
+    std::vector<Reading> b;
+    for (int i = 0; i < n; ++i) b.push_back({id, t + i, 1.0});
+    if (!(*w)->append(b)) return false;
+    accepted += n;
+    t += n;
+    return true;
+  };
+  push(100);
+  if (!(*w)->flush().ok()) report(4);
+  // Past 256 KiB, write() fails with EFBIG (SIGXFSZ ignored) for the database and its WAL.
+  signal(SIGXFSZ, SIG_IGN);
+  rlimit lim{};
+  getrlimit(RLIMIT_FSIZE, &lim);
+  const rlim_t hard = lim.rlim_max;
+  lim.rlim_cur = 256 << 10;
+  if (setrlimit(RLIMIT_FSIZE, &lim) != 0) report(5);
+  for (int i = 0; i < 400 && (*w)->health().ok; ++i) {
+    if (!push(500)) break;
+    (void)(*w)->flush(std::chrono::milliseconds(500));
+  }
+  const StoreHealth h = (*w)->health();
+  out << "fault_ok " << h.ok << "\nfault_disk_full " << h.disk_full << "\nfault_error "
+      << h.last_error << "\n";
+  while (push(1000)) {
+  }
+  out << "dropped " << (*w)->num_dropped() << "\nqueued " << (*w)->queued() << "\n";
+  const auto stalled = (*w)->flush(std::chrono::milliseconds(300));
+  out << "stalled_flush_ok " << stalled.ok() << "\n";
+  lim.rlim_cur = hard;  // space returns (raising the soft limit up to the hard one needs no rights)
+  if (setrlimit(RLIMIT_FSIZE, &lim) != 0) report(6);
+  const auto resumed = (*w)->flush(std::chrono::seconds(20));
+  out << "resumed_flush_ok " << resumed.ok() << "\nresumed_ok " << (*w)->health().ok
+      << "\nfaults " << (*w)->health().num_faults << "\naccepted " << accepted << "\nend "
+      << t << "\n";
+  report((*w)->stop().ok() ? 0 : 7);
+}
+
+TEST(DurabilityTest, FileSizeLimitActsAsFullDiskAndWritingResumesWhenLifted) {
+  // Needs no root, unlike the tmpfs test above: RLIMIT_FSIZE in a child process.
+  TempDir dir;
+  const std::string path = dir.file("h.db");
+  int fds[2];
+  ASSERT_EQ(pipe(fds), 0);
+  const pid_t pid = fork();
+  ASSERT_GE(pid, 0);
+  if (pid == 0) {
+    close(fds[0]);
+    file_limit_child(path, fds[1]);
+  }
+  close(fds[1]);
+  std::string text;
+  char buf[512];
+  for (ssize_t n; (n = read(fds[0], buf, sizeof buf)) > 0;) text.append(buf, static_cast<size_t>(n));
+  close(fds[0]);
+  int status = 0;
+  ASSERT_EQ(waitpid(pid, &status, 0), pid);
+  ASSERT_TRUE(WIFEXITED(status));
+  EXPECT_EQ(WEXITSTATUS(status), 0) << text;
+  std::map<std::string, std::string> got;
+  std::istringstream in(text);
+  for (std::string line; std::getline(in, line);) {
+    const auto sp = line.find(' ');
+    got[line.substr(0, sp)] = sp == std::string::npos ? "" : line.substr(sp + 1);
+  }
+  // While the limit holds: the writer reports a full disk in one clear line and stays up.
+  EXPECT_EQ(got["fault_ok"], "0") << text;
+  EXPECT_EQ(got["fault_disk_full"], "1") << text;
+  EXPECT_NE(got["fault_error"].find(path), std::string::npos) << text;
+  EXPECT_NE(got["fault_error"].find("full"), std::string::npos) << text;
+  // It keeps accepting into its queue (capacity 20 000) and then rejects and counts.
+  EXPECT_GT(std::stoll(got["dropped"]), 0) << text;
+  EXPECT_LE(std::stoll(got["queued"]), 20'000) << text;
+  EXPECT_EQ(got["stalled_flush_ok"], "0") << text;
+  // Once the limit is lifted, everything accepted is written; one fault, one recovery.
+  EXPECT_EQ(got["resumed_flush_ok"], "1") << text;
+  EXPECT_EQ(got["resumed_ok"], "1") << text;
+  EXPECT_EQ(got["faults"], "1") << text;
+  const int64_t accepted = std::stoll(got["accepted"]);
+  EXPECT_EQ(sqlite_shell(path, "SELECT count(*), min(t_ms), max(t_ms) FROM readings"),
+            std::to_string(accepted) + "|" + std::to_string(kT0) + "|" +
+                std::to_string(kT0 + accepted - 1));
+  EXPECT_EQ(sqlite_shell(path, "PRAGMA integrity_check"), "ok");
 }
 
 TEST(DurabilityTest, ReadOnlyDataDirectoryFailsAtOpenWithReason) {

@@ -2,7 +2,9 @@
 // rollups, and retention in small steps (each its own short transaction).
 #include "writer_db.h"
 
+#include <sys/resource.h>
 #include <sys/stat.h>
+#include <sys/statvfs.h>
 #include <unistd.h>
 
 #include <algorithm>
@@ -81,6 +83,31 @@ std::string dir_of(const std::string& path) {
   const auto slash = path.find_last_of('/');
   if (slash == std::string::npos) return ".";
   return slash == 0 ? "/" : path.substr(0, slash);
+}
+
+int64_t file_size(const std::string& path) {
+  struct stat st {};
+  return ::stat(path.c_str(), &st) == 0 ? static_cast<int64_t>(st.st_size) : 0;
+}
+
+// Why the database's storage is full, or "" if it does not look full: the process file-size
+// limit (RLIMIT_FSIZE) reached by the database or its WAL, or no free blocks on the device.
+std::string storage_full_reason(const std::string& db_path) {
+  constexpr int64_t kMargin = 64 << 10;  // a few WAL frames: a refused write stops this short
+  rlimit lim{};
+  if (::getrlimit(RLIMIT_FSIZE, &lim) == 0 && lim.rlim_cur != RLIM_INFINITY) {
+    const auto limit = static_cast<int64_t>(lim.rlim_cur);
+    const int64_t largest = std::max(file_size(db_path), file_size(db_path + "-wal"));
+    if (largest + std::min(kMargin, limit / 4) >= limit) {
+      return "file size limit of " + std::to_string(limit) + " bytes (RLIMIT_FSIZE) reached";
+    }
+  }
+  struct statvfs vfs {};
+  if (::statvfs(dir_of(db_path).c_str(), &vfs) == 0 &&
+      static_cast<int64_t>(vfs.f_bavail) * static_cast<int64_t>(vfs.f_frsize) < kMargin) {
+    return "no space left on the device of " + dir_of(db_path);
+  }
+  return "";
 }
 
 }  // namespace
@@ -371,6 +398,15 @@ base::Result<WriteOutcome> WriterDb::write(const Batch& b, bool* disk_full) {
     base::Error e = sql_error(db_.get(), failed_rc, std::string("writing batch to ") +
                                                         config_.path + ": " + failed_what);
     *disk_full = (failed_rc & 0xff) == SQLITE_FULL;
+    if ((failed_rc & 0xff) == SQLITE_IOERR) {
+      // A write refused for lack of room (EFBIG, some ENOSPC paths) reaches us as a bare
+      // I/O error without its errno: look at the storage to tell full from broken.
+      const std::string why = storage_full_reason(config_.path);
+      if (!why.empty()) {
+        *disk_full = true;
+        e.message += " (storage full: " + why + ")";
+      }
+    }
     // SQLite may already have rolled back (e.g. on SQLITE_FULL); a second rollback is harmless.
     if (!sqlite3_get_autocommit(db_.get())) {
       rollback_.step();
