@@ -3,14 +3,19 @@
 // Not a pass/fail test. Goals (reported, not asserted): >= 5x scipy, >= 60 % of the bare-FFT
 // rate, < 64 MB peak RSS on a one-hour file, prime block <= 1.2x the smooth one.
 //
-// usage: analysis_bench [--minutes M] [--hour] [--keep DIR]
+// usage: analysis_bench [--minutes M] [--hour] [--keep DIR] [--path-only] [--repeat R]
 //   --minutes M  length of the generated 51.2 kHz mono float recording (default 10)
+//   --path-only  only the analysis path vs bare FFTW (no scipy, CLI or prime block): quick,
+//                and what `perf record` should look at
+//   --repeat R   run the analysis-path vs bare-FFTW comparison R times (default 1), so a
+//                loaded machine shows a range instead of one lucky or unlucky figure
 //   --hour       also write a one-hour recording and measure the CLI's peak RSS with
 //                /usr/bin/time -v tonewarden analyze FILE --block 65536
 #include <sys/resource.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <ctime>
 #include <cmath>
 #include <cstdio>
@@ -188,11 +193,15 @@ Stamp time_cli(const std::vector<std::string>& args) {
 int main(int argc, char** argv) {
   double minutes = 10.0;
   bool hour = false;
+  bool path_only = false;
+  int repeat = 1;
   std::string dir;
   for (int i = 1; i < argc; ++i) {
     if (!std::strcmp(argv[i], "--minutes") && i + 1 < argc) minutes = std::atof(argv[++i]);
     else if (!std::strcmp(argv[i], "--hour")) hour = true;
     else if (!std::strcmp(argv[i], "--keep") && i + 1 < argc) dir = argv[++i];
+    else if (!std::strcmp(argv[i], "--path-only")) path_only = true;
+    else if (!std::strcmp(argv[i], "--repeat") && i + 1 < argc) repeat = std::max(1, std::atoi(argv[++i]));
     else die(std::string("unknown argument ") + argv[i] + " (see the file's header for usage)");
   }
   if (dir.empty()) {
@@ -209,18 +218,24 @@ int main(int argc, char** argv) {
 
   std::printf("\nblock %zu, Hann, 50 %% overlap, linear average of every frame, 10 peaks\n", kBlock);
   std::printf("rates in Msamples/s of input, from CPU time (wall time in brackets)\n");
-  for (auto planning : {tw::dsp::FftPlanning::kEstimate, tw::dsp::FftPlanning::kMeasure}) {
-    const char* name = planning == tw::dsp::FftPlanning::kEstimate ? "estimate" : "measure";
-    const PathResult a = run_analysis_path(path, kBlock, planning, UINT64_MAX);
-    const Stamp fft = run_bare_fft(path, kBlock, a.frames, planning);
-    const double n = static_cast<double>(a.samples);
-    // The bare FFT's rate in input samples: each of the same frames advances the stream a hop.
-    std::printf("  planning %-8s analysis path %7.1f (%7.1f)  %llu frames, top peak %.3f Hz\n", name,
-                n / a.took.cpu_s / 1e6, n / a.took.wall_s / 1e6,
-                static_cast<unsigned long long>(a.frames), a.top_peak_hz);
-    std::printf("  planning %-8s bare RealFft  %7.1f (%7.1f)  -> analysis at %.0f %% of the bare-FFT rate (%.0f %% wall)\n",
-                name, n / fft.cpu_s / 1e6, n / fft.wall_s / 1e6, 100.0 * fft.cpu_s / a.took.cpu_s,
-                100.0 * fft.wall_s / a.took.wall_s);
+  for (int rep = 0; rep < repeat; ++rep) {
+    for (auto planning : {tw::dsp::FftPlanning::kEstimate, tw::dsp::FftPlanning::kMeasure}) {
+      const char* name = planning == tw::dsp::FftPlanning::kEstimate ? "estimate" : "measure";
+      const PathResult a = run_analysis_path(path, kBlock, planning, UINT64_MAX);
+      const Stamp fft = run_bare_fft(path, kBlock, a.frames, planning);
+      const double n = static_cast<double>(a.samples);
+      // The bare FFT's rate in input samples: each of the same frames advances the stream a hop.
+      std::printf("  planning %-8s analysis path %7.1f (%7.1f)  %llu frames, top peak %.3f Hz\n", name,
+                  n / a.took.cpu_s / 1e6, n / a.took.wall_s / 1e6,
+                  static_cast<unsigned long long>(a.frames), a.top_peak_hz);
+      std::printf("  planning %-8s bare RealFft  %7.1f (%7.1f)  -> analysis at %.0f %% of the bare-FFT rate (%.0f %% wall)\n",
+                  name, n / fft.cpu_s / 1e6, n / fft.wall_s / 1e6, 100.0 * fft.cpu_s / a.took.cpu_s,
+                  100.0 * fft.wall_s / a.took.wall_s);
+    }
+  }
+  if (path_only) {
+    std::remove(path.c_str());
+    return 0;
   }
 
   const PathResult a = run_analysis_path(path, kBlock, tw::dsp::FftPlanning::kAuto, UINT64_MAX);
