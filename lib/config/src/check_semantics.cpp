@@ -9,9 +9,9 @@
 namespace tonewarden::config::detail {
 namespace {
 
-constexpr const char* kChannelMetrics =
-    "velocity_rms|accel_rms|accel_peak|crest_factor|kurtosis|envelope_rms";
-constexpr const char* kTargetFields = "amplitude|frequency_hz";
+// As the channel tracker names its readings (velocity_rms only for g and m/s2 channels).
+constexpr const char* kChannelMetrics = "rms|peak|crest_factor|kurtosis|velocity_rms";
+constexpr const char* kTargetFields = "amplitude|frequency_hz|snr_db";
 
 bool valid_name(const std::string& s) {
   if (s.empty() || s.size() > 64) return false;

@@ -264,8 +264,8 @@ std::vector<OptionSpec> build_options() {
   // [[rig.rule]]
   add(Opt("rig.rule", "name", T::kString, "short unique name within the rig").req());
   add(Opt("rig.rule", "reading", T::kString,
-          "CHANNEL.METRIC (velocity_rms, accel_rms, accel_peak, crest_factor, kurtosis, envelope_rms), "
-          "CHANNEL.TARGET.amplitude|frequency_hz, or speed.rpm").req().live());
+          "CHANNEL.METRIC (rms, peak, crest_factor, kurtosis, velocity_rms), "
+          "CHANNEL.TARGET.amplitude|frequency_hz|snr_db (dB above the local floor), or speed.rpm").req().live());
   add(Opt("rig.rule", "direction", T::kEnum, "alarm when the reading goes above or below the levels")
           .choices("above|below").def(str("above")).live());
   add(Opt("rig.rule", "warning", T::kFloat, "warning level, in the reading's unit (or dB / spreads over baseline)").live());
