@@ -102,8 +102,9 @@ class EventFanout : public pipeline::RigEventSink {
  public:
   EventFanout(pipeline::RigEventSink* web, notify::Notifier* notifier, notify::MqttSink* mqtt)
       : web_(web), notifier_(notifier), mqtt_(mqtt) {}
-  void on_alarm_event(const std::string& rig, const alarm::AlarmEvent& e) override {
-    web_->on_alarm_event(rig, e);
+  void on_alarm_event(const std::string& rig, const alarm::AlarmEvent& e,
+                      std::string_view evidence) override {
+    web_->on_alarm_event(rig, e, evidence);
     if (notifier_->num_sinks() > 0) notifier_->post(notify::make_notify_event(rig, e));
   }
   void on_readings(const std::string& rig, const track::ReadingSet& r) override {
@@ -248,6 +249,7 @@ int run_daemon(const DaemonOptions& options) {
   build_options.store = store->get();
   build_options.sink = &fanout;
   if (cfg.store.snapshot_interval_s > 0) build_options.snapshot_interval_s = cfg.store.snapshot_interval_s;
+  build_options.evidence = cfg.evidence;
   std::vector<Rig> rigs;
   for (const config::RigConfig& rc : cfg.rigs) {
     auto rig = build_rig(rc, build_options);
@@ -333,6 +335,9 @@ int run_daemon(const DaemonOptions& options) {
   notifier.stopping();
   base::log_info("stopping");
   for (Rig& r : rigs) r.pipeline->stop();
+  for (Rig& r : rigs) {
+    if (r.evidence) r.evidence->finish();  // a clip in progress ends with the samples it has
+  }
   (*store)->end_run(run_id, base::wall_now());
   const auto left = kStopDeadline - (std::chrono::steady_clock::now() - t_stop);
   if (auto st = (*store)->stop(std::max(std::chrono::duration_cast<std::chrono::milliseconds>(left) -

@@ -71,7 +71,7 @@ bool reload_config(const DaemonOptions& options, config::LoadedConfig& loaded, c
       updated.description = fresh->description;
       updated.targets = fresh->targets;
       updated.rules = fresh->rules;
-      auto monitor = build_monitor(updated, *rigs[i].pipeline, build_options);
+      auto monitor = build_monitor(updated, *rigs[i].pipeline, build_options, rigs[i].evidence.get());
       if (!monitor) {
         base::log_error("reload: rig '" + name + "' keeps its running targets and rules: " +
                         monitor.error().message);

@@ -171,6 +171,28 @@ base::Result<std::unique_ptr<source::Source>> make_source(const config::RigConfi
   return make_error(ErrorCode::kInvalidArgument, "unknown source kind");
 }
 
+namespace {
+
+// The rig's raw-evidence recorder over every channel, tach included.
+base::Result<std::unique_ptr<pipeline::EvidenceRecorder>> make_evidence_recorder(
+    const std::string& rig, double sample_rate_hz, const std::vector<pipeline::ChannelSpec>& channels,
+    const RigBuildOptions& options) {
+  pipeline::EvidenceRecorderConfig ec;
+  ec.data_dir = options.data_dir;
+  ec.rig = rig;
+  ec.sample_rate_hz = sample_rate_hz;
+  ec.channels = channels;
+  ec.pre_s = options.evidence.pre_s;
+  ec.post_s = options.evidence.post_s;
+  ec.min_interval_s = options.evidence.min_interval_s;
+  ec.max_total_bytes = static_cast<uint64_t>(options.evidence.max_total_mb * 1e6);
+  auto r = pipeline::EvidenceRecorder::create(ec);
+  if (!r) return std::move(r).error().with_context("rig '" + rig + "' evidence");
+  return r;
+}
+
+}  // namespace
+
 base::Result<Rig> build_rig(const config::RigConfig& rc, const RigBuildOptions& options) {
   auto src = make_source(rc, options.data_dir);
   if (!src) return std::move(src).error().with_context("rig '" + rc.name + "' source");
@@ -205,14 +227,24 @@ base::Result<Rig> build_rig(const config::RigConfig& rc, const RigBuildOptions& 
   }
   auto pipe = pipeline::RigPipeline::create(pc, std::move(src).value());
   if (!pipe) return std::move(pipe).error();
-  auto mon = build_monitor(rc, **pipe, options);
+  Rig rig;
+  rig.name = rc.name;
+  if (options.evidence.enabled) {
+    auto evidence = make_evidence_recorder(rc.name, caps.sample_rate_hz, pc.channels, options);
+    if (!evidence) return std::move(evidence).error();
+    rig.evidence = std::move(evidence).value();
+  }
+  auto mon = build_monitor(rc, **pipe, options, rig.evidence.get());
   if (!mon) return std::move(mon).error();
   (*pipe)->add_observer(mon->get());
-  return Rig{rc.name, std::move(pipe).value(), std::move(mon).value()};
+  rig.pipeline = std::move(pipe).value();
+  rig.monitor = std::move(mon).value();
+  return rig;
 }
 
 base::Result<std::unique_ptr<pipeline::RigMonitor>> build_monitor(
-    const config::RigConfig& rc, const pipeline::RigPipeline& p, const RigBuildOptions& options) {
+    const config::RigConfig& rc, const pipeline::RigPipeline& p, const RigBuildOptions& options,
+    pipeline::EvidenceRecorder* evidence) {
   const source::SourceCapabilities caps = p.capabilities();
   const pipeline::RigPipelineConfig& pc = p.config();
   const config::AnalysisConfig& a = rc.analysis;
@@ -273,7 +305,7 @@ base::Result<std::unique_ptr<pipeline::RigMonitor>> build_monitor(
   }
   for (const config::RuleConfig& r : rc.rules) mc.rules.push_back(to_rule(r));
 
-  auto mon = pipeline::RigMonitor::create(mc, p, options.store, options.sink);
+  auto mon = pipeline::RigMonitor::create(mc, p, options.store, options.sink, evidence);
   if (!mon) return std::move(mon).error().with_context("rig '" + rc.name + "'");
   return mon;
 }

@@ -8,6 +8,7 @@
 #include "tonewarden/base/result.h"
 #include "tonewarden/config/config.h"
 #include "tonewarden/dsp/fft.h"
+#include "tonewarden/pipeline/evidence_recorder.h"
 #include "tonewarden/pipeline/rig_monitor.h"
 #include "tonewarden/pipeline/rig_pipeline.h"
 #include "tonewarden/source/source.h"
@@ -17,6 +18,8 @@ namespace tonewarden::daemon {
 
 struct Rig {
   std::string name;
+  // Declared first so it goes last: the monitor feeds it until the pipeline stops.
+  std::unique_ptr<pipeline::EvidenceRecorder> evidence;  // null when [evidence] is off
   std::unique_ptr<pipeline::RigPipeline> pipeline;
   std::unique_ptr<pipeline::RigMonitor> monitor;
 };
@@ -27,6 +30,7 @@ struct RigBuildOptions {
   store::StoreWriter* store = nullptr;         // may be null
   pipeline::RigEventSink* sink = nullptr;      // may be null
   double snapshot_interval_s = 600;
+  config::EvidenceConfig evidence{.enabled = false};  // raw clips around activations
 };
 
 base::Result<std::unique_ptr<source::Source>> make_source(const config::RigConfig& rig,
@@ -35,9 +39,10 @@ base::Result<std::unique_ptr<source::Source>> make_device_source(const config::R
 base::Result<Rig> build_rig(const config::RigConfig& rig, const RigBuildOptions& options);
 // The monitor alone (targets, rules, speed) for a rig whose pipeline already runs: used by a
 // reload, which swaps it into the running pipeline.
+// `evidence` (may be null) is the rig's running recorder, kept across reloads.
 base::Result<std::unique_ptr<pipeline::RigMonitor>> build_monitor(
     const config::RigConfig& rig, const pipeline::RigPipeline& pipeline,
-    const RigBuildOptions& options);
+    const RigBuildOptions& options, pipeline::EvidenceRecorder* evidence);
 
 // Engineering-unit names we convert for velocity: g and m/s².
 bool is_acceleration_unit(const std::string& unit);

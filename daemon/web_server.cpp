@@ -18,6 +18,7 @@
 #include "tonewarden/base/log.h"
 #include "tonewarden/http/providers.h"
 #include "tonewarden/http/server.h"
+#include "tonewarden/pipeline/evidence_recorder.h"
 #include "tonewarden/store/store_reader.h"
 #include "tonewarden_web/assets.h"
 
@@ -34,6 +35,13 @@ constexpr size_t kReaderPoolMax = 4;          // read-only database connections 
 std::string trim_line(std::string s) {
   while (!s.empty() && (s.back() == '\n' || s.back() == '\r' || s.back() == ' ')) s.pop_back();
   return s;
+}
+
+// The API link of a clip named in the alarm log ("evidence/RIG/NAME.flac" becomes
+// "/api/v1/evidence/RIG/NAME.flac"), or "" when there is none or the path is not plain.
+std::string evidence_url(const std::string& data_dir, std::string_view relative_path) {
+  if (relative_path.empty() || !pipeline::resolve_evidence_path(data_dir, relative_path)) return "";
+  return "/api/v1/" + std::string(relative_path);
 }
 
 // "motor-de.bpfo.amplitude" -> channel "motor-de", target "bpfo", metric "amplitude".
@@ -417,6 +425,7 @@ struct WebServer::Impl : public http::StatusProvider,
       h.user = e.user;
       h.comment = e.comment;
       h.message = e.message;
+      h.evidence = evidence_url(cfg.daemon.data_dir, e.evidence_path);
       out.push_back(std::move(h));
     }
     return out;
@@ -524,8 +533,10 @@ struct WebServer::Impl : public http::StatusProvider,
   }
 
   // ---- RigEventSink (analysis threads) ----
-  void on_alarm_event(const std::string& rig, const alarm::AlarmEvent& e) override {
+  void on_alarm_event(const std::string& rig, const alarm::AlarmEvent& e,
+                      std::string_view evidence) override {
     http::AlarmEvent h;
+    h.evidence = evidence_url(cfg.daemon.data_dir, evidence);
     h.t = e.t;
     h.alarm = rig + "." + std::string(e.rule);
     h.rule = std::string(e.rule);
@@ -615,6 +626,7 @@ base::Status WebServer::start() {
   }
   if (h.max_event_streams > 0) sc.max_event_streams = static_cast<size_t>(h.max_event_streams);
   sc.version = TONEWARDEN_VERSION;
+  sc.evidence_dir = impl_->cfg.daemon.data_dir + "/" + std::string(pipeline::kEvidenceFolder);
 
   http::Providers p;
   p.status = impl_.get();

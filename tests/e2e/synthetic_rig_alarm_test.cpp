@@ -46,7 +46,7 @@ struct RecordedEvent {
 // Keeps every alarm event with its story time (event times are signal time: frames / fs).
 class RecordingSink : public pipeline::RigEventSink {
  public:
-  void on_alarm_event(const std::string&, const alarm::AlarmEvent& e) override {
+  void on_alarm_event(const std::string&, const alarm::AlarmEvent& e, std::string_view) override {
     const double signal_s = static_cast<double>(e.t.unix_ms - kStartUnixMs) / 1000.0;
     std::lock_guard<std::mutex> lock(mutex_);
     events_.push_back({std::string(e.rule), e.severity, e.state,

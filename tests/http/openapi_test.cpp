@@ -21,7 +21,7 @@ const std::vector<std::pair<std::string, std::string>> kRoutes = {
     {"get", "/api/v1/annotations"},     {"post", "/api/v1/annotations"},
     {"post", "/api/v1/reload"},         {"get", "/api/v1/stream"},
     {"get", "/api/v1/openapi.json"},    {"get", "/metrics"},
-    {"get", "/healthz"}};
+    {"get", "/healthz"},                {"get", "/api/v1/evidence/{rig}/{file}"}};
 
 json fetch_doc(httplib::Client& client) {
   const auto r = client.Get("/api/v1/openapi.json");

@@ -119,7 +119,8 @@ Json to_json(const AlarmEvent& e) {
   return Json{{"id", e.id},         {"t", time_json(e.t)},   {"alarm", e.alarm},
               {"rule", e.rule},     {"severity", e.severity}, {"state", e.state},
               {"value", number_json(e.value)}, {"user", e.user}, {"comment", e.comment},
-              {"message", e.message}};
+              {"message", e.message},
+              {"evidence", e.evidence.empty() ? Json(nullptr) : Json(e.evidence)}};
 }
 
 Json to_json(const SnapshotInfo& s) {

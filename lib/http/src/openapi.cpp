@@ -81,7 +81,8 @@ constexpr const char* kSchemas = R"json({
     "id": {"type": "integer"}, "t": {"$ref": "#/components/schemas/Time"}, "alarm": {"type": "string"},
     "rule": {"type": "string"}, "severity": {"type": "string"}, "state": {"type": "string"},
     "value": {"$ref": "#/components/schemas/Number"}, "user": {"type": "string"},
-    "comment": {"type": "string"}, "message": {"type": "string"}}},
+    "comment": {"type": "string"}, "message": {"type": "string"},
+    "evidence": {"type": "string", "nullable": true, "description": "URL of the raw FLAC clip around this activation (GET /api/v1/evidence/...); null when none"}}},
   "AlarmEvents": {"type": "object", "properties": {"events": {"type": "array", "items": {"$ref": "#/components/schemas/AlarmEvent"}}}},
   "SnapshotInfo": {"type": "object", "properties": {
     "id": {"type": "integer"}, "t": {"$ref": "#/components/schemas/Time"}, "rig": {"type": "string"},

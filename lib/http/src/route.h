@@ -146,6 +146,7 @@ inline ParamSpec string_param(const std::string& name, const std::string& what, 
 void add_api_routes(std::vector<Route>& routes);      // status, config, live, trends
 void add_history_routes(std::vector<Route>& routes);  // alarms, snapshots, annotations, reload
 void add_system_routes(std::vector<Route>& routes);   // stream, metrics, healthz, openapi
+void add_evidence_routes(std::vector<Route>& routes); // raw clips around alarms
 
 // Splits paths, adds the standard error statuses. Call once after adding routes.
 void finalize_routes(std::vector<Route>& routes);

@@ -306,6 +306,7 @@ base::Result<std::unique_ptr<Server>> Server::create(const ServerConfig& config,
   detail::add_api_routes(impl->routes);
   detail::add_history_routes(impl->routes);
   detail::add_system_routes(impl->routes);
+  detail::add_evidence_routes(impl->routes);
   detail::finalize_routes(impl->routes);
   impl->state.openapi_json = detail::build_openapi(impl->routes, config.version);
   impl->install();

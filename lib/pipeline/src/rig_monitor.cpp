@@ -4,6 +4,7 @@
 #include <cmath>
 #include <limits>
 #include <optional>
+#include <string>
 
 #include "tonewarden/base/log.h"
 
@@ -23,12 +24,25 @@ store::AlarmState to_store_state(alarm::AlarmState s) {
   return store::AlarmState::kNormal;
 }
 
+// "readings of CHANNEL: a, b, c" for the channel (or target) a bad reading name starts with.
+std::string reading_hint(const track::ReadingSet& readings, const std::string& wanted) {
+  const std::string prefix = wanted.substr(0, wanted.rfind('.') + 1);
+  std::string list;
+  for (const track::Reading& r : readings.readings()) {
+    if (!prefix.empty() && r.name.rfind(prefix, 0) != 0) continue;
+    list += (list.empty() ? "" : ", ") + r.name;
+  }
+  if (list.empty()) return "no reading starts with '" + prefix + "'";
+  return "readings there: " + list;
+}
+
 }  // namespace
 
 struct RigMonitor::Impl {
   RigMonitorConfig config;
   store::StoreWriter* store = nullptr;
   RigEventSink* sink = nullptr;
+  EvidenceRecorder* evidence = nullptr;
 
   track::ReadingSet readings;
   size_t speed_index = 0;
@@ -63,11 +77,13 @@ RigMonitor::~RigMonitor() = default;
 base::Result<std::unique_ptr<RigMonitor>> RigMonitor::create(const RigMonitorConfig& config,
                                                              const RigPipeline& pipeline,
                                                              store::StoreWriter* store,
-                                                             RigEventSink* sink) {
+                                                             RigEventSink* sink,
+                                                             EvidenceRecorder* evidence) {
   auto impl = std::make_unique<Impl>();
   impl->config = config;
   impl->store = store;
   impl->sink = sink;
+  impl->evidence = evidence;
   const size_t n = config.channels.size();
   impl->trackers.resize(n);
   impl->quality.resize(n);
@@ -141,6 +157,13 @@ base::Result<std::unique_ptr<RigMonitor>> RigMonitor::create(const RigMonitorCon
       ec.rules.push_back(std::move(r));
     }
   }
+  // A rule on a reading the rig never produces would never fire: refuse it now.
+  for (const alarm::RuleConfig& r : config.rules) {
+    if (impl->readings.find(r.reading)) continue;
+    return base::make_error(base::ErrorCode::kInvalidArgument,
+                            "rig '" + config.rig + "': rule '" + r.name + "' reads '" + r.reading +
+                                "', which this rig does not produce (" + reading_hint(impl->readings, r.reading) + ")");
+  }
   auto engine = alarm::AlarmEngine::create(ec);
   if (!engine) return std::move(engine).error().with_context("rig '" + config.rig + "' alarms");
   impl->engine = std::move(engine).value();
@@ -160,9 +183,10 @@ base::Result<std::unique_ptr<RigMonitor>> RigMonitor::create(const RigMonitorCon
   return std::unique_ptr<RigMonitor>(new RigMonitor(std::move(impl)));
 }
 
-void RigMonitor::on_block(std::span<const std::span<const float>> volts, int64_t /*first_frame*/,
-                          base::WallTimeMs /*t_first*/, bool discontinuity) {
+void RigMonitor::on_block(std::span<const std::span<const float>> volts, int64_t first_frame,
+                          base::WallTimeMs t_first, bool discontinuity) {
   Impl& s = *impl_;
+  if (s.evidence) s.evidence->on_block(volts, first_frame, t_first, discontinuity);
   if (s.tach) {
     if (discontinuity) s.tach->reset();
     s.tach->process(volts[s.config.tach_channel]);
@@ -198,10 +222,12 @@ void RigMonitor::on_period(size_t c, const ChannelPeriod& period, base::WallTime
     s.events.clear();
     s.engine->evaluate(s.readings, t_end, s.events);
     for (const alarm::AlarmEvent& e : s.events.events()) {
+      std::string evidence_path;
       if (e.cause == alarm::EventCause::kCondition && e.state == alarm::AlarmState::kUnacknowledged) {
         for (size_t k = 0; k < s.config.channels.size(); ++k) {
           if (s.config.channels[k].name == e.channel) s.snapshot_due[k] = true;
         }
+        if (s.evidence) evidence_path = s.evidence->on_activation(e.t, e.rule);
       }
       if (s.store) {
         store::AlarmEvent rec;
@@ -218,9 +244,10 @@ void RigMonitor::on_period(size_t c, const ChannelPeriod& period, base::WallTime
                       alarm::event_cause_name(e.cause) + ")";
         rec.user = std::string(e.user.view());
         rec.comment = std::string(e.comment.view());
+        rec.evidence_path = evidence_path;
         if (!s.store->append(rec)) ++s.store_rejects;
       }
-      if (s.sink) s.sink->on_alarm_event(s.config.rig, e);
+      if (s.sink) s.sink->on_alarm_event(s.config.rig, e, evidence_path);
     }
     if (s.store) {
       s.rows.clear();

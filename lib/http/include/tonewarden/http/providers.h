@@ -194,6 +194,7 @@ struct AlarmEvent {
   std::string user;   // who acknowledged or shelved; empty for automatic changes
   std::string comment;
   std::string message;
+  std::string evidence;  // URL of the raw clip written around this activation; empty: none
 };
 struct AlarmEventQuery {
   WallTimeMs from{}, to{};

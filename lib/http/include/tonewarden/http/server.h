@@ -27,6 +27,7 @@ struct ServerConfig {
   bool token_on_every_route = false;  // forced on for non-loopback addresses
   size_t max_event_streams = kDefaultMaxEventStreams;  // 1..kMaxMaxEventStreams
   std::string version;      // reported by status and build_info
+  std::string evidence_dir; // DATA_DIR/evidence: raw clips served read-only; empty: none
 };
 
 // Checks ranges and the security rule (non-loopback address needs a valid token).

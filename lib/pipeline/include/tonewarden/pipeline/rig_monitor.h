@@ -13,6 +13,7 @@
 #include "tonewarden/alarm/alarm_engine.h"
 #include "tonewarden/alarm/signal_quality.h"
 #include "tonewarden/base/result.h"
+#include "tonewarden/pipeline/evidence_recorder.h"
 #include "tonewarden/pipeline/rig_pipeline.h"
 #include "tonewarden/store/store_writer.h"
 #include "tonewarden/track/channel_tracker.h"
@@ -42,17 +43,22 @@ struct RigMonitorConfig {
 class RigEventSink {
  public:
   virtual ~RigEventSink() = default;
-  virtual void on_alarm_event(const std::string& rig, const alarm::AlarmEvent& event) = 0;
+  // `evidence`: the raw clip written for this activation ("evidence/RIG/NAME.flac", relative
+  // to the data dir), or empty.
+  virtual void on_alarm_event(const std::string& rig, const alarm::AlarmEvent& event,
+                              std::string_view evidence) = 0;
   virtual void on_readings(const std::string& rig, const track::ReadingSet& readings) = 0;
 };
 
 class RigMonitor : public RigObserver {
  public:
-  // `store` and `sink` may be null; both outlive the monitor.
+  // `store`, `sink` and `evidence` may be null; all outlive the monitor. `evidence` gets
+  // every block and writes a raw clip when an alarm becomes active; the event names it.
   static base::Result<std::unique_ptr<RigMonitor>> create(const RigMonitorConfig& config,
                                                           const RigPipeline& pipeline,
                                                           store::StoreWriter* store,
-                                                          RigEventSink* sink);
+                                                          RigEventSink* sink,
+                                                          EvidenceRecorder* evidence = nullptr);
   ~RigMonitor() override;
 
   void on_block(std::span<const std::span<const float>> volts_per_channel, int64_t first_frame,
