@@ -57,7 +57,6 @@ bool reload_config(const DaemonOptions& options, config::LoadedConfig& loaded, c
   config::Config merged = cfg;
   merged.daemon.log_level = next.config.daemon.log_level;
   base::set_log_level(to_log_level(merged.daemon.log_level));
-  merged.notify = next.config.notify;
   for (const std::string& name : rigs_to_rebuild) {
     const config::RigConfig* fresh = nullptr;
     for (const auto& r : next.config.rigs) {

@@ -285,21 +285,21 @@ std::vector<OptionSpec> build_options() {
           .choices("absolute|baseline-db|baseline-spread").def(str("absolute")).live());
   add(Opt("rig.rule", "baseline_learn_s", T::kFloat, "learn the baseline over this long after start")
           .def(f64(3600)).range(10, 2'592'000, "s").when("threshold_mode", "baseline-db|baseline-spread").live());
-  // [notify.*]
+  // [notify.*] (read at start: the notifier threads are built once)
   add(Opt("notify.webhook", "url", T::kString, "http:// or https:// URL to POST events to; empty: off")
-          .def(str("")).live());
+          .def(str("")));
   add(Opt("notify.webhook", "timeout_ms", T::kInt, "give up on one attempt after this long")
-          .def(i64(5000)).range(100, 60000, "ms").live());
+          .def(i64(5000)).range(100, 60000, "ms"));
   add(Opt("notify.webhook", "retries", T::kInt, "extra attempts after a failure, with backoff")
-          .def(i64(3)).range(0, 20, "retries").live());
+          .def(i64(3)).range(0, 20, "retries"));
   add(Opt("notify.webhook", "min_severity", T::kEnum, "least severe event sent")
-          .choices("warning|critical").def(str("warning")).live());
+          .choices("warning|critical").def(str("warning")));
   add(Opt("notify.exec", "command", T::kStringList, "program and arguments, run without a shell; event JSON on stdin; empty: off")
-          .def(Value{std::vector<std::string>{}}).live());
+          .def(Value{std::vector<std::string>{}}));
   add(Opt("notify.exec", "timeout_s", T::kFloat, "kill the command after this long")
-          .def(f64(10)).range(0.1, 3600, "s").live());
+          .def(f64(10)).range(0.1, 3600, "s"));
   add(Opt("notify.exec", "min_severity", T::kEnum, "least severe event that runs the command")
-          .choices("warning|critical").def(str("warning")).live());
+          .choices("warning|critical").def(str("warning")));
   add(Opt("notify.mqtt", "enabled", T::kBool, "publish events to an MQTT broker").def(Value{false}));
   add(Opt("notify.mqtt", "host", T::kString, "broker host").def(str("127.0.0.1")));
   add(Opt("notify.mqtt", "port", T::kInt, "broker port").def(i64(1883)).range(1, 65535));
