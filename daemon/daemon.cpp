@@ -100,12 +100,16 @@ store::StoreConfig to_store_config(const config::Config& c) {
 // Hands each alarm event to the web stream and to the notifiers, and readings to MQTT.
 class EventFanout : public pipeline::RigEventSink {
  public:
-  EventFanout(pipeline::RigEventSink* web, notify::Notifier* notifier, notify::MqttSink* mqtt)
-      : web_(web), notifier_(notifier), mqtt_(mqtt) {}
+  EventFanout(pipeline::RigEventSink* web, notify::Notifier* notifier, notify::MqttSink* mqtt,
+              std::string data_dir)
+      : web_(web), notifier_(notifier), mqtt_(mqtt), data_dir_(std::move(data_dir)) {}
   void on_alarm_event(const std::string& rig, const alarm::AlarmEvent& e,
                       std::string_view evidence) override {
     web_->on_alarm_event(rig, e, evidence);
-    if (notifier_->num_sinks() > 0) notifier_->post(notify::make_notify_event(rig, e));
+    if (notifier_->num_sinks() == 0) return;
+    notify::NotifyEvent n = notify::make_notify_event(rig, e);
+    if (!evidence.empty()) n.evidence = data_dir_ + "/" + std::string(evidence);
+    notifier_->post(std::move(n));
   }
   void on_readings(const std::string& rig, const track::ReadingSet& r) override {
     web_->on_readings(rig, r);
@@ -116,6 +120,7 @@ class EventFanout : public pipeline::RigEventSink {
   pipeline::RigEventSink* web_;
   notify::Notifier* notifier_;
   notify::MqttSink* mqtt_;  // null when MQTT is off; owned by the Notifier
+  std::string data_dir_;    // evidence paths are relative to it
 };
 
 // `*mqtt` is left pointing at the MQTT sink (one broker connection per rig), or null.
@@ -242,7 +247,7 @@ int run_daemon(const DaemonOptions& options) {
     return kExitUsage;
   }
   notify::Notifier notifier_out(std::move(sinks).value());
-  EventFanout fanout(web.event_sink(), &notifier_out, mqtt);
+  EventFanout fanout(web.event_sink(), &notifier_out, mqtt, cfg.daemon.data_dir);
   RigBuildOptions build_options;
   build_options.data_dir = cfg.daemon.data_dir;
   build_options.planning = planning;

@@ -82,6 +82,7 @@ TEST(NotifierTest, WebhookPostsTheEventAsJson) {
   ASSERT_EQ(bodies.size(), 1u);
   EXPECT_NE(bodies[0].find("\"rule\":\"de-bpfo\""), std::string::npos) << bodies[0];
   EXPECT_NE(bodies[0].find("\"t\":\"2001-09-09T01:46:40.000Z\""), std::string::npos) << bodies[0];
+  EXPECT_NE(bodies[0].find("\"evidence\":null"), std::string::npos) << bodies[0];  // no clip
   EXPECT_EQ(n.num_delivered(), 1u);
   EXPECT_EQ(n.num_failed(), 0u);
 }
@@ -130,13 +131,15 @@ TEST(NotifierTest, RejectsBadWebhookSettings) {
 TEST(NotifierTest, ExecHookGetsTheEventInItsEnvironment) {
   const auto out = std::filesystem::temp_directory_path() / ("tw_exec_" + std::to_string(::getpid()));
   Notifier n(one(make_exec_sink(
-      {{"/bin/sh", "-c", "printf '%s|%s|%s' \"$TONEWARDEN_RULE\" \"$TONEWARDEN_SEVERITY\" \"$TONEWARDEN_VALUE\" > " + out.string()},
+      {{"/bin/sh", "-c", "printf '%s|%s|%s|%s' \"$TONEWARDEN_RULE\" \"$TONEWARDEN_SEVERITY\" \"$TONEWARDEN_VALUE\" \"$TONEWARDEN_EVIDENCE\" > " + out.string()},
        5000ms, "warning"})));
-  n.post(sample_event());
+  NotifyEvent e = sample_event();
+  e.evidence = "/var/lib/tonewarden/evidence/bay4/20010909T014640.000Z-de-bpfo.flac";
+  n.post(e);
   ASSERT_TRUE(n.wait_idle(5s));
   std::ifstream in(out);
   std::string text((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
-  EXPECT_EQ(text, "de-bpfo|critical|0.25");
+  EXPECT_EQ(text, "de-bpfo|critical|0.25|/var/lib/tonewarden/evidence/bay4/20010909T014640.000Z-de-bpfo.flac");
   EXPECT_EQ(n.num_delivered(), 1u);
   std::filesystem::remove(out);
 }

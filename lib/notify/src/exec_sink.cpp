@@ -1,6 +1,7 @@
 // Exec hook: runs a configured command with the event in environment variables, time-limited.
 // Variables: TONEWARDEN_RIG, _RULE, _READING, _CHANNEL, _SEVERITY, _STATE, _PREVIOUS_STATE,
-// _CAUSE, _VALUE, _THRESHOLD, _TIME (RFC 3339), _USER, _COMMENT, and TONEWARDEN_EVENT_JSON.
+// _CAUSE, _VALUE, _THRESHOLD, _TIME (RFC 3339), _USER, _COMMENT, _EVIDENCE (the raw clip's path,
+// written a few seconds after an activation), and TONEWARDEN_EVENT_JSON.
 #include <signal.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -50,6 +51,7 @@ class ExecSink final : public Sink {
     set("TIME", base::format_rfc3339(e.t));
     set("USER", e.user);
     set("COMMENT", e.comment);
+    set("EVIDENCE", e.evidence);
     set("EVENT_JSON", to_json(e));
     std::vector<char*> envp, argv;
     for (auto& s : env_strings) envp.push_back(s.data());

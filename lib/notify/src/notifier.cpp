@@ -51,7 +51,8 @@ std::string to_json(const NotifyEvent& e) {
                       {"value", num(e.value)},
                       {"threshold", num(e.threshold)},
                       {"user", e.user},
-                      {"comment", e.comment}};
+                      {"comment", e.comment},
+                      {"evidence", e.evidence.empty() ? nlohmann::json(nullptr) : nlohmann::json(e.evidence)}};
   return j.dump();
 }
 

@@ -36,6 +36,7 @@ struct NotifyEvent {
   double threshold = 0;        // NaN when none
   std::string user;
   std::string comment;
+  std::string evidence;        // path of the raw clip written for this activation; "" if none
 };
 
 NotifyEvent make_notify_event(const std::string& rig, const alarm::AlarmEvent& e);
