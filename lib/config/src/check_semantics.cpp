@@ -391,6 +391,19 @@ void check_notify(const Section& notify, const IssueSink& sink) {
     if (mq->get_bool("enabled") && mq->get_string("host").empty()) {
       sink.add(mq->pos_of("host"), key_label(mq->label, "host"), "enabled MQTT needs a host");
     }
+    // The same limits the MQTT sink enforces at start, reported here with a position.
+    const std::string prefix = mq->get_string("topic_prefix");
+    if (prefix.find_first_of("+#") != std::string::npos) {
+      sink.add(mq->pos_of("topic_prefix"), key_label(mq->label, "topic_prefix"),
+               "topic_prefix \"" + prefix + "\" must not contain the wildcards '+' or '#'");
+    } else if (!prefix.empty() && prefix[0] == '$') {
+      sink.add(mq->pos_of("topic_prefix"), key_label(mq->label, "topic_prefix"),
+               "topic_prefix \"" + prefix + "\" must not start with '$' (topics kept for the broker)");
+    }
+    if (!mq->get_string("password_file").empty() && mq->get_string("username").empty()) {
+      sink.add(mq->pos_of("password_file"), key_label(mq->label, "password_file"),
+               "password_file needs a username");
+    }
   }
 }
 
