@@ -1,6 +1,19 @@
 // Trends: min/mean/max over a time range (rollups for long ranges), with zoom and pan,
 // alarm events and annotations drawn as vertical marks.
 "use strict";
+// Time ticks in UTC, 24-hour: the time on each, the date under the first and at a new day.
+function utcTicks(splits) {
+  const withSeconds = splits.length > 1 && (splits[1] - splits[0]) < 60;
+  let lastDay = "";
+  return splits.map((t) => {
+    if (t == null) return "";
+    const iso = new Date(t * 1000).toISOString(), day = iso.slice(0, 10);
+    const text = iso.slice(11, withSeconds ? 19 : 16) + (day !== lastDay ? "\n" + day : "");
+    lastDay = day;
+    return text;
+  });
+}
+
 const trendView = {
   plot: null, spanS: 3600, toMs: null, events: [], notes: [], series: [],
   build(el) {
@@ -9,8 +22,8 @@ const trendView = {
       width: el.clientWidth || 900, height: 260,
       scales: { x: { time: true } },
       tzDate: (ts) => uPlot.tzDate(new Date(ts * 1e3), "Etc/UTC"),  // UTC like the rest of the page
-      axes: [{ stroke: "#2b2f33" }, { stroke: "#2b2f33", size: 70 }],
-      series: [{}, { label: "max", stroke: "#8a96a3", width: 1 }, { label: "mean", stroke: "#34495e", width: 1.5 },
+      axes: [{ stroke: "#2b2f33", values: (u, splits) => utcTicks(splits) }, { stroke: "#2b2f33", size: 70 }],
+      series: [{ value: (u, t) => t == null ? "--" : fmtTime(new Date(t * 1000).toISOString()) }, { label: "max", stroke: "#8a96a3", width: 1 }, { label: "mean", stroke: "#34495e", width: 1.5 },
         { label: "min", stroke: "#8a96a3", width: 1 }],
       cursor: { drag: { x: true, y: false } },
       hooks: {
@@ -54,13 +67,18 @@ const trendView = {
     const ctx = u.ctx, dpr = devicePixelRatio || 1;
     ctx.save();
     ctx.font = (11 * dpr) + "px system-ui, sans-serif";
+    ctx.textAlign = "left";  // uPlot leaves the context as its last axis label needed it
+    ctx.textBaseline = "alphabetic";
     const mark = (tIso, color, dash, label) => {
       const t = Date.parse(tIso) / 1000;
       if (t < u.scales.x.min || t > u.scales.x.max) return;
       const x = u.valToPos(t, "x", true);
       ctx.setLineDash(dash); ctx.strokeStyle = color; ctx.fillStyle = color;
       ctx.beginPath(); ctx.moveTo(x, u.bbox.top); ctx.lineTo(x, u.bbox.top + u.bbox.height); ctx.stroke();
-      ctx.fillText(label, x + 3 * dpr, u.bbox.top + 12 * dpr);
+      // Beside the line, on its left when the right would run past the plot.
+      const w = ctx.measureText(label).width;
+      const right = x + 3 * dpr + w <= u.bbox.left + u.bbox.width;
+      ctx.fillText(label, right ? x + 3 * dpr : x - 3 * dpr - w, u.bbox.top + 12 * dpr);
     };
     for (const e of this.events) {
       const crit = e.severity === "critical";
