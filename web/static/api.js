@@ -30,6 +30,12 @@ function fmtTime(iso) {
   const d = new Date(iso);
   return d.toISOString().replace("T", " ").slice(0, 19) + "Z";
 }
+// Time of day alone when the date is today (UTC), else date and minutes; full form in fmtTime.
+function fmtShortTime(iso) {
+  if (!iso) return "–";
+  const s = new Date(iso).toISOString();
+  return s.slice(0, 10) === new Date().toISOString().slice(0, 10) ? s.slice(11, 19) + "Z" : s.slice(0, 10) + " " + s.slice(11, 16) + "Z";
+}
 function fmtNum(v, digits) {
   if (v === null || v === undefined || !isFinite(v)) return "–";
   const a = Math.abs(v);

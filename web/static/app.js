@@ -51,6 +51,17 @@ function cell(tr, text, cls) {
   return td;
 }
 
+// "rig.rule" with a line break allowed only after the dot, never inside a name.
+function alarmName(td, id) {
+  const dot = id.indexOf(".");
+  const part = (t) => { const sp = document.createElement("span"); sp.className = "nowrap"; sp.textContent = t; td.appendChild(sp); };
+  if (dot < 0) { part(id); return td; }
+  part(id.slice(0, dot + 1));
+  td.appendChild(document.createElement("wbr"));
+  part(id.slice(dot + 1));
+  return td;
+}
+
 async function refreshAlarms() {
   let list;
   try { list = (await api.get("/api/v1/alarms")).alarms; } catch (e) { return; }
@@ -68,12 +79,12 @@ async function refreshAlarms() {
     if (a.state === "normal" && list.length > 12) continue;  // keep the list short
     const tr = document.createElement("tr");
     tr.dataset.alarm = a.id;
-    cell(tr, SEV_SHAPE[a.severity] || a.severity, "sev-" + a.severity);
+    cell(tr, SEV_SHAPE[a.severity] || a.severity, "nowrap sev-" + a.severity);
     cell(tr, a.state.replace(/_/g, " "), "state-" + a.state);
-    cell(tr, a.id, a.message ? "held" : "").title = a.message || a.series;
+    alarmName(cell(tr, "", a.message ? "held" : ""), a.id).title = a.message || a.series;
     cell(tr, fmtNum(a.value));
-    cell(tr, fmtTime(a.since));
-    const td = cell(tr, "");
+    cell(tr, fmtShortTime(a.since), "nowrap").title = fmtTime(a.since);
+    const td = cell(tr, "", "actions");
     if (a.state === "unacknowledged" || a.state === "returned_unacknowledged") {
       const b = document.createElement("button");
       b.textContent = "Acknowledge"; b.className = "ack";
@@ -108,8 +119,10 @@ async function act(id, verb, body) {
 }
 
 async function refreshHealth() {
-  let st;
+  let st, rd = [];
   try { st = await api.get("/api/v1/status"); } catch (e) { return; }
+  try { rd = (await api.get("/api/v1/readings")).readings; } catch (e) { /* readings not ready yet */ }
+  // Both answers are in before the table changes, so it never shows half its rows.
   const body = document.getElementById("health-rows");
   body.innerHTML = "";
   const row = (k, v, bad) => { const tr = document.createElement("tr"); cell(tr, k); cell(tr, v, bad ? "bad" : ""); body.appendChild(tr); };
@@ -118,15 +131,12 @@ async function refreshHealth() {
     row(s.name + " frames analysed", String(s.frames));
     row(s.name + " overflows / gaps", s.overflows + " / " + s.drops, s.overflows > 0);
   }
-  try {
-    const rd = (await api.get("/api/v1/readings")).readings;
-    for (const r of rd) {
-      if (r.metric === "clipped_samples") row(r.channel + " clipped samples", fmtNum(r.value, 0), r.value > 0);
-      if (r.metric === "rms") row(r.channel + " RMS", fmtNum(r.value) + " " + r.unit);
-      if (r.metric === "velocity_rms") row(r.channel + " velocity RMS", fmtNum(r.value, 2) + " " + r.unit);
-      if (r.metric === "speed_rpm") row("speed", fmtNum(r.value, 1) + " rpm");
-    }
-  } catch (e) { /* readings not ready yet */ }
+  for (const r of rd) {
+    if (r.metric === "clipped_samples") row(r.channel + " clipped samples", fmtNum(r.value, 0), r.value > 0);
+    if (r.metric === "rms") row(r.channel + " RMS", fmtNum(r.value) + " " + r.unit);
+    if (r.metric === "velocity_rms") row(r.channel + " velocity RMS", fmtNum(r.value, 2) + " " + r.unit);
+    if (r.metric === "speed_rpm") row("speed", fmtNum(r.value, 1) + " rpm");
+  }
   row("storage", st.storage.state + (st.storage.detail ? " — " + st.storage.detail : ""), st.storage.state !== "ok");
 }
 
