@@ -26,20 +26,43 @@ async function loadConfig() {
   }
 }
 
+// The overlay on a chart or canvas that says why it shows nothing live (title null: hide it).
+function showState(el, title, detail) {
+  el.hidden = !title;
+  if (!title) return;
+  el.querySelector(".title").textContent = title;
+  el.querySelector(".detail").textContent = detail || "";
+}
+
 async function refreshSpectrum() {
   const ch = document.getElementById("channel").value;
   if (!ch) return;
+  const meta = document.getElementById("spectrum-meta");
+  const panel = document.getElementById("spectrum-panel"), state = document.getElementById("spectrum-state");
   try {
     const s = await api.get("/api/v1/spectrum?channel=" + encodeURIComponent(ch) + "&points=4096");
     spectrumView.update(s);
     spectrogramView.push(s);
-    document.getElementById("spectrum-meta").textContent =
+    const stale = spectrogramView.lastT === s.t && Date.now() - spectrogramView.lastNewAt > kSpectrogramStaleMs;
+    panel.classList.toggle("stale", stale);
+    showState(state, stale ? "Waiting for data" : null, "no new spectrum since " + fmtTime(s.t));
+    meta.textContent = (stale ? "not updating since " : "") +
       fmtTime(s.t) + " · bin " + fmtNum(s.bin_hz, 3) + " Hz · resolution " + fmtNum(s.resolution_hz, 3) +
       " Hz · " + s.scaling.replace("_", " ");
     document.getElementById("peak-list").textContent = "peaks: " + (s.peaks || []).slice(0, 6)
       .map((p) => fmtNum(p.frequency_hz, 2) + " Hz " + fmtNum(p.amplitude) + " " + s.unit).join(" · ");
   } catch (e) {
-    document.getElementById("spectrum-meta").textContent = e.status === 503 ? "waiting for the first spectrum…" : e.message;
+    if (e.status === 0) return;  // the connection banner says it
+    panel.classList.add("stale");
+    if (e.status === 503) {
+      const why = "no spectrum for " + ch + " yet: the rig is starting, restarting or silent";
+      meta.textContent = "waiting for the first spectrum…";
+      const last = spectrumView.data && spectrumView.data.channel === ch ? spectrumView.data.t : null;
+      showState(state, "Waiting for data", why + (last ? "; the trace is from " + fmtTime(last) : ""));
+      spectrogramView.waiting(ch, why);
+    } else {
+      meta.textContent = e.message;
+    }
   }
 }
 
@@ -60,6 +83,11 @@ function alarmName(td, id) {
   td.appendChild(document.createElement("wbr"));
   part(id.slice(dot + 1));
   return td;
+}
+
+function takeToken() {
+  const tok = document.getElementById("token").value.trim();
+  if (tok) api.setToken(tok);
 }
 
 async function refreshAlarms() {
@@ -107,8 +135,7 @@ async function refreshAlarms() {
 
 async function act(id, verb, body) {
   const msg = document.getElementById("action-msg");
-  const tok = document.getElementById("token").value.trim();
-  if (tok) api.setToken(tok);
+  takeToken();
   try {
     await api.post("/api/v1/alarms/" + encodeURIComponent(id) + "/" + verb, body);
     msg.textContent = verb + " sent for " + id;
@@ -140,15 +167,50 @@ async function refreshHealth() {
   row("storage", st.storage.state + (st.storage.detail ? " — " + st.storage.detail : ""), st.storage.state !== "ok");
 }
 
+let stream = null;
 function startStream() {
-  const es = new EventSource("/api/v1/stream");
-  es.addEventListener("alarm", () => refreshAlarms());
-  es.onerror = () => { /* the browser reconnects by itself */ };
+  if (stream && stream.readyState !== EventSource.CLOSED) return;
+  stream = new EventSource("/api/v1/stream");
+  stream.addEventListener("alarm", () => refreshAlarms());
+  // On errors the browser reconnects by itself; a closed stream is reopened when the link is up.
+}
+
+// Connection banner: shown while the daemon does not answer; everything below it is dimmed
+// and the alarm summary says the state is unknown, since the page cannot see changes.
+function showLink() {
+  const banner = document.getElementById("link-banner");
+  banner.hidden = link.up;
+  document.body.classList.toggle("link-lost", !link.up);
+  if (link.up) return;
+  const ago = Math.round((Date.now() - link.lostAt.getTime()) / 1000);
+  document.getElementById("link-detail").textContent = "since " + fmtTime(link.lostAt.toISOString()) +
+    " (" + ago + " s) · retrying every second · the values below are from before then and are not live";
+  const sum = document.getElementById("alarm-summary");
+  sum.textContent = "alarm state unknown (no connection)";
+  sum.className = "summary sev-unknown";
+}
+link.onChange((up) => {
+  showLink();
+  if (up) refreshAll();
+});
+
+async function refreshAll() {
+  if (!cfg) {
+    try { await loadConfig(); } catch (e) { document.getElementById("rig-summary").textContent = "cannot read the configuration: " + e.message; }
+  }
+  refreshSpectrum(); refreshAlarms(); refreshHealth(); trendView.load();
+  startStream();
+}
+
+// Runs fn now and then ms after each run ends, so that slow answers never pile up.
+function every(ms, fn) {
+  const run = async () => { try { await fn(); } finally { setTimeout(run, ms); } };
+  setTimeout(run, ms);
 }
 
 async function main() {
   spectrumView.build(document.getElementById("spectrum"));
-  spectrogramView.init(document.getElementById("spectrogram"));
+  spectrogramView.init(document.getElementById("spectrogram"), document.getElementById("spectrogram-state"));
   trendView.build(document.getElementById("trend"));
   document.getElementById("token").value = api.token();
   document.getElementById("log-x").onchange = (e) => { spectrumView.logX = e.target.checked; spectrumView.build(document.getElementById("spectrum")); refreshSpectrum(); };
@@ -162,8 +224,7 @@ async function main() {
   document.getElementById("pan-right").onclick = () => trendView.pan(1);
   document.getElementById("note-add").onclick = async () => {
     const text = document.getElementById("note-text").value.trim();
-    const tok = document.getElementById("token").value.trim();
-    if (tok) api.setToken(tok);
+    takeToken();
     if (!text) return;
     try {
       await api.post("/api/v1/annotations", { text, user: "dashboard", rig: cfg && cfg.rigs[0] ? cfg.rigs[0].id : "" });
@@ -171,13 +232,14 @@ async function main() {
       trendView.load();
     } catch (e) { document.getElementById("trend-meta").textContent = "note: " + e.message; }
   };
-  setInterval(() => { document.getElementById("clock").textContent = new Date().toISOString().slice(0, 19) + "Z"; }, 1000);
-  try { await loadConfig(); } catch (e) { document.getElementById("rig-summary").textContent = "cannot read the configuration: " + e.message; }
-  refreshSpectrum(); refreshAlarms(); refreshHealth(); trendView.load();
-  setInterval(refreshSpectrum, 1000);
-  setInterval(refreshAlarms, 3000);
-  setInterval(refreshHealth, 3000);
-  setInterval(() => { if (!trendView.toMs) trendView.load(); }, 15000);
-  startStream();
+  setInterval(() => {
+    document.getElementById("clock").textContent = new Date().toISOString().slice(0, 19) + "Z";
+    showLink();
+  }, 1000);
+  await refreshAll();
+  every(1000, async () => { await refreshSpectrum(); spectrogramView.tick(); });
+  every(3000, refreshAlarms);
+  every(3000, refreshHealth);
+  every(15000, () => { if (!trendView.toMs) return trendView.load(); });
 }
 main();

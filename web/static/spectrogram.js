@@ -1,15 +1,45 @@
-// Spectrogram: one row per live spectrum, newest at the top, level in dB on viridis.
+// Spectrogram: one row per new live spectrum, newest at the top, level in dB on viridis.
+// While no spectrum has arrived (start-up, a rig restart, another channel) the canvas says so
+// instead of staying black; when spectra stop coming, the last rows are dimmed and labelled.
 "use strict";
+const kSpectrogramStaleMs = 5000;  // no new spectrum for this long: the picture is not live
+
 const spectrogramView = {
-  canvas: null, ctx: null, rows: 0, dbLo: -120, dbHi: 0, channel: "",
-  init(canvas) { this.canvas = canvas; this.ctx = canvas.getContext("2d"); this.clear(); },
-  clear() {
+  canvas: null, ctx: null, state: null, rows: 0, dbLo: -120, dbHi: 0, channel: "",
+  lastT: null, lastNewAt: 0,
+  init(canvas, stateEl) {
+    this.canvas = canvas; this.ctx = canvas.getContext("2d"); this.state = stateEl;
+    this.clear("waiting for the first spectrum…");
+  },
+  clear(why) {
     this.ctx.fillStyle = "#222";
     this.ctx.fillRect(0, 0, this.canvas.width, this.canvas.height);
     this.rows = 0;
+    this.lastT = null;
+    document.getElementById("spectrogram-range").textContent = "";
+    this.show("Waiting for data", why);
+  },
+  // The overlay: a title and a detail line, or nothing when the picture is live.
+  show(title, detail) {
+    this.state.classList.toggle("over-image", this.rows > 0);
+    showState(this.state, title, detail);
+  },
+  // No spectrum for the channel (HTTP 503): a restarting or silent rig.
+  waiting(channel, why) {
+    if (this.rows > 0 || channel !== this.channel) { this.channel = channel; this.clear(why); }
+    else this.show("Waiting for data", why);
+  },
+  // Called on every poll: marks the picture stale once spectra stop coming.
+  tick() {
+    if (this.rows > 0 && Date.now() - this.lastNewAt > kSpectrogramStaleMs)
+      this.show("Waiting for data", "no new spectrum since " + fmtTime(this.lastT) + "; the rows below are older");
   },
   push(s) {
-    if (s.channel !== this.channel) { this.channel = s.channel; this.clear(); }
+    if (s.channel !== this.channel) { this.channel = s.channel; this.clear("waiting for the first spectrum…"); }
+    if (s.t === this.lastT) { this.tick(); return; }  // the same spectrum polled again
+    if (this.lastT && Date.parse(s.t) < Date.parse(this.lastT)) this.clear("the rig restarted");
+    this.lastT = s.t;
+    this.lastNewAt = Date.now();
     const w = this.canvas.width, h = this.canvas.height, rowH = 2;
     // Scroll down by one row, then paint the new row at the top.
     this.ctx.drawImage(this.canvas, 0, 0, w, h - rowH, 0, rowH, w, h - rowH);
@@ -34,6 +64,7 @@ const spectrogramView = {
     }
     this.ctx.putImageData(img, 0, 0);
     this.rows++;
+    this.show(null);
     const fmax = s.frequency_hz.length ? s.frequency_hz[s.frequency_hz.length - 1] : 0;
     document.getElementById("spectrogram-range").textContent =
       "0 – " + fmtNum(fmax, 0) + " Hz · " + fmtNum(this.dbLo, 0) + " to " + fmtNum(this.dbHi, 0) + " dB re 1 " + s.unit;
