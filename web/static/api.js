@@ -46,6 +46,9 @@ const api = {
     const res = await api.send(path, { method: "POST", headers: api.headers({ "Content-Type": "application/json" }), body: JSON.stringify(body || {}) });
     return res.status === 204 ? {} : res.json();
   },
+  async blob(path) {
+    return (await api.send(path, { headers: api.headers() })).blob();
+  },
   async error(res) {
     let msg = res.status + " " + res.statusText;
     try { const j = await res.json(); if (j.error) msg = j.error.message || msg; } catch (e) { /* not JSON */ }

@@ -85,6 +85,72 @@ function alarmName(td, id) {
   return td;
 }
 
+// Evidence clips are served only from this path, by plain names; anything else is not linked.
+const kEvidencePath = /^\/api\/v1\/evidence\/[A-Za-z0-9_-][A-Za-z0-9._-]*\/[A-Za-z0-9_-][A-Za-z0-9._-]*\.flac$/;
+
+// A download link to a file under /api/v1. A plain link when no token is set (loopback reads
+// need none); with a token the file is fetched with it, since a link cannot carry the header.
+function downloadLink(path, text, title) {
+  const a = document.createElement("a");
+  a.href = path; a.textContent = text; a.title = title;
+  a.download = path.slice(path.lastIndexOf("/") + 1);
+  a.onclick = async (ev) => {
+    takeToken();
+    if (!api.token()) return;
+    ev.preventDefault();
+    try {
+      const url = URL.createObjectURL(await api.blob(path));
+      const tmp = document.createElement("a");
+      tmp.href = url; tmp.download = a.download;
+      document.body.appendChild(tmp); tmp.click(); tmp.remove();
+      setTimeout(() => URL.revokeObjectURL(url), 60000);
+    } catch (e) {
+      document.getElementById("log-meta").textContent = "· " + a.download + ": " + e.message;
+    }
+  };
+  return a;
+}
+
+function evidenceCell(td, evidence) {
+  if (evidence === null || evidence === undefined || evidence === "") { td.textContent = "–"; return; }
+  if (typeof evidence !== "string" || !kEvidencePath.test(evidence)) {
+    td.textContent = "(link not usable)"; td.title = String(evidence); return;
+  }
+  td.classList.add("evidence");
+  td.appendChild(downloadLink(evidence, "⤓ FLAC", "raw clip around this activation (24-bit FLAC)"));
+  td.appendChild(document.createTextNode(" "));
+  td.appendChild(downloadLink(evidence.replace(/\.flac$/, ".json"), "info",
+    "what the clip holds: rig, rules, start, seconds before and after, channels, and an analyze command line"));
+}
+
+let shownLog = null;
+async function refreshLog() {
+  let events;
+  try { events = (await api.get("/api/v1/alarms/events?limit=50")).events || []; } catch (e) { return; }
+  const key = JSON.stringify(events);
+  if (key === shownLog) return;  // unchanged: keep the rows (and a click in progress) as they are
+  shownLog = key;
+  const body = document.getElementById("log-rows");
+  body.innerHTML = "";
+  for (const e of events) {
+    const tr = document.createElement("tr");
+    tr.dataset.event = String(e.id);
+    cell(tr, fmtTime(e.t), "nowrap");
+    cell(tr, SEV_SHAPE[e.severity] || e.severity, "nowrap sev-" + e.severity);
+    alarmName(cell(tr, ""), e.alarm).title = e.message || "";
+    cell(tr, (e.state || "").replace(/_/g, " "));
+    cell(tr, fmtNum(e.value));
+    cell(tr, e.user ? e.user + (e.comment ? ": " + e.comment : "") : "–").title = e.comment || "";
+    evidenceCell(cell(tr, ""), e.evidence);
+    body.appendChild(tr);
+  }
+  if (!events.length) {
+    const tr = document.createElement("tr");
+    cell(tr, "no alarm changes in the last 24 h", "meta").colSpan = 7;
+    body.appendChild(tr);
+  }
+}
+
 function takeToken() {
   const tok = document.getElementById("token").value.trim();
   if (tok) api.setToken(tok);
@@ -139,7 +205,7 @@ async function act(id, verb, body) {
   try {
     await api.post("/api/v1/alarms/" + encodeURIComponent(id) + "/" + verb, body);
     msg.textContent = verb + " sent for " + id;
-    setTimeout(refreshAlarms, 400);
+    setTimeout(() => { refreshAlarms(); refreshLog(); }, 400);
   } catch (e) {
     msg.textContent = e.status === 401 ? "the API token is missing or wrong (see the daemon's start-up log)" : e.message;
   }
@@ -171,7 +237,7 @@ let stream = null;
 function startStream() {
   if (stream && stream.readyState !== EventSource.CLOSED) return;
   stream = new EventSource("/api/v1/stream");
-  stream.addEventListener("alarm", () => refreshAlarms());
+  stream.addEventListener("alarm", () => { refreshAlarms(); refreshLog(); });
   // On errors the browser reconnects by itself; a closed stream is reopened when the link is up.
 }
 
@@ -198,7 +264,7 @@ async function refreshAll() {
   if (!cfg) {
     try { await loadConfig(); } catch (e) { document.getElementById("rig-summary").textContent = "cannot read the configuration: " + e.message; }
   }
-  refreshSpectrum(); refreshAlarms(); refreshHealth(); trendView.load();
+  refreshSpectrum(); refreshAlarms(); refreshLog(); refreshHealth(); trendView.load();
   startStream();
 }
 
@@ -239,6 +305,7 @@ async function main() {
   await refreshAll();
   every(1000, async () => { await refreshSpectrum(); spectrogramView.tick(); });
   every(3000, refreshAlarms);
+  every(5000, refreshLog);
   every(3000, refreshHealth);
   every(15000, () => { if (!trendView.toMs) return trendView.load(); });
 }
