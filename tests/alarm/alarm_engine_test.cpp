@@ -300,3 +300,58 @@ TEST(AlarmEngineTest, CommandsFromAnotherThreadAreAppliedByEvaluate) {
 
 }  // namespace
 }  // namespace tonewarden::alarm
+
+namespace tonewarden::alarm {
+namespace {
+
+// A reload replaces the engine: the state table (ISA-18.2) says an acknowledged alarm whose
+// condition still holds stays acknowledged; only a change of condition makes an event.
+TEST(AlarmEngineCarryOverTest, AcknowledgedAlarmStaysAcknowledgedUnderNewLevels) {
+  EngineHarness before({above_rule(1.0, 2.0)});
+  ASSERT_EQ(before.step(1.5, 0).size(), 1u);  // normal -> unacknowledged (warning)
+  ASSERT_TRUE(before.engine().acknowledge("de.bpfo", "ana", "bearing on order", before.at(1)).ok());
+  ASSERT_EQ(before.step(1.5, 1).size(), 1u);  // -> acknowledged
+  ASSERT_EQ(before.status().state, AlarmState::kAcknowledged);
+
+  // New levels for the same rule: warning 1.2 still holds at 1.5.
+  EngineHarness after({above_rule(1.2, 3.0)});
+  EXPECT_EQ(after.engine().carry_over(before.engine()), 1u);
+  EXPECT_EQ(after.status().state, AlarmState::kAcknowledged);
+  EXPECT_EQ(after.status().ack_user.view(), "ana");
+  EXPECT_EQ(after.status().ack_comment.view(), "bearing on order");
+  EXPECT_EQ(after.status().state_since, before.status().state_since);
+  EXPECT_TRUE(after.step(1.5, 2).empty()) << "no new activation for an alarm already acknowledged";
+  // Below the new warning level it clears: acknowledged -> normal, one event.
+  const auto e = after.step(1.0, 3);
+  ASSERT_EQ(e.size(), 1u);
+  EXPECT_EQ(e[0].previous_state, AlarmState::kAcknowledged);
+  EXPECT_EQ(e[0].state, AlarmState::kNormal);
+}
+
+TEST(AlarmEngineCarryOverTest, RaisedLevelsTurnAnActiveAlarmIntoReturnedUnacknowledged) {
+  EngineHarness before({above_rule(1.0, 2.0)});
+  ASSERT_EQ(before.step(1.5, 0).size(), 1u);  // unacknowledged
+  EngineHarness after({above_rule(1.8, 3.0)});
+  ASSERT_EQ(after.engine().carry_over(before.engine()), 1u);
+  const auto e = after.step(1.5, 1);  // 1.5 is under the new warning level
+  ASSERT_EQ(e.size(), 1u);
+  EXPECT_EQ(e[0].previous_state, AlarmState::kUnacknowledged);
+  EXPECT_EQ(e[0].state, AlarmState::kReturnedUnacknowledged);
+}
+
+TEST(AlarmEngineCarryOverTest, ARuleOnAnotherReadingOrANewNameStartsNormal) {
+  EngineHarness before({above_rule(1.0, 2.0)});
+  ASSERT_EQ(before.step(1.5, 0).size(), 1u);
+  RuleConfig moved = above_rule(1.0, 2.0);
+  moved.reading = "de.bpfo.snr_db";
+  RuleConfig renamed = above_rule(1.0, 2.0);
+  renamed.name = "de.bpfo-2";
+  for (const RuleConfig& r : {moved, renamed}) {
+    EngineHarness after({r});
+    EXPECT_EQ(after.engine().carry_over(before.engine()), 0u) << r.name << " " << r.reading;
+    EXPECT_EQ(after.status().state, AlarmState::kNormal);
+  }
+}
+
+}  // namespace
+}  // namespace tonewarden::alarm

@@ -159,6 +159,9 @@ TEST_F(DaemonLifecycleTest, StartsServesReloadsAndStopsInOrder) {
     std::this_thread::sleep_for(100ms);
   }
   EXPECT_NE(log().find("now runs its new targets and rules"), std::string::npos) << log();
+  // Alarm states carry over: the changed rule and every signal-quality rule keep theirs.
+  EXPECT_TRUE(std::regex_search(log(), std::regex("rig 'bay4-pump': (\\d+) of \\1 alarm\\(s\\) keep their state")))
+      << log();
 
   // SIGHUP with a bad file: rejected, the daemon keeps serving the old configuration.
   std::ofstream(config_) << "[daemon]\nno_such_key = 1\n";

@@ -82,6 +82,44 @@ base::Result<std::unique_ptr<AlarmEngine>> AlarmEngine::create(const AlarmEngine
   return e;
 }
 
+size_t AlarmEngine::carry_over(const AlarmEngine& previous) {
+  size_t continued = 0;
+  for (size_t i = 0; i < rules_.size(); ++i) {
+    Rule& r = rules_[i];
+    const auto p = previous.rule_index(r.config.name);
+    if (!p) continue;
+    const Rule& old = previous.rules_[*p];
+    if (old.config.reading != r.config.reading) continue;  // another quantity: start afresh
+    r.condition = old.condition;
+    r.candidate = old.candidate;
+    r.candidate_since_ms = old.candidate_since_ms;
+    r.candidate_pending = old.candidate_pending;
+    r.reading_index = old.reading_index;
+    if (r.baseline && old.baseline && old.config.mode == r.config.mode &&
+        old.config.learn_s == r.config.learn_s && old.config.learn_max_samples == r.config.learn_max_samples) {
+      r.baseline = old.baseline;
+    }
+    RuleStatus& s = status_[i];
+    const RuleStatus& o = previous.status_[*p];
+    s.state = o.state;
+    s.severity = o.severity;
+    s.suppressed = o.suppressed;
+    s.value = o.value;
+    s.state_since = o.state_since;
+    s.shelved_until = o.shelved_until;
+    s.ack_user = o.ack_user;
+    s.ack_comment = o.ack_comment;
+    s.ack_time = o.ack_time;
+    s.learning = r.baseline.has_value() && !r.baseline->learned();
+    if (r.baseline && r.baseline->learned()) {
+      s.baseline_median = r.baseline->median();
+      s.baseline_spread = r.baseline->spread();
+    }
+    ++continued;
+  }
+  return continued;
+}
+
 std::optional<size_t> AlarmEngine::rule_index(std::string_view name) const noexcept {
   for (size_t i = 0; i < rules_.size(); ++i) {
     if (rules_[i].config.name == name) return i;

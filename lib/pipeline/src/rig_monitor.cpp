@@ -183,6 +183,18 @@ base::Result<std::unique_ptr<RigMonitor>> RigMonitor::create(const RigMonitorCon
   return std::unique_ptr<RigMonitor>(new RigMonitor(std::move(impl)));
 }
 
+void RigMonitor::take_over_from(RigObserver& previous) {
+  auto* old = dynamic_cast<RigMonitor*>(&previous);
+  if (!old) return;
+  Impl& s = *impl_;
+  const size_t kept = s.engine->carry_over(*old->impl_->engine);
+  if (old->impl_->last_snapshot_ms.size() == s.last_snapshot_ms.size()) {
+    s.last_snapshot_ms = old->impl_->last_snapshot_ms;
+  }
+  base::log_info("rig '" + s.config.rig + "': " + std::to_string(kept) + " of " +
+                 std::to_string(s.engine->num_rules()) + " alarm(s) keep their state across the reload");
+}
+
 void RigMonitor::on_block(std::span<const std::span<const float>> volts, int64_t first_frame,
                           base::WallTimeMs t_first, bool discontinuity) {
   Impl& s = *impl_;

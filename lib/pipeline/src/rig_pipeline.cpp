@@ -246,7 +246,9 @@ void RigPipeline::Impl::capture_loop() {
 void RigPipeline::Impl::apply_swap() {
   std::lock_guard lock(swap_mu);
   for (auto& o : observers) {
-    if (o == swap_old) o = swap_new;
+    if (o != swap_old) continue;
+    swap_new->take_over_from(*swap_old);
+    o = swap_new;
   }
   swap_pending.store(false);
   swap_cv.notify_all();
@@ -258,7 +260,9 @@ void RigPipeline::swap_observer(RigObserver* old_observer, RigObserver* fresh) {
   impl_->swap_new = fresh;
   if (!impl_->started || impl_->analysis_done.load()) {
     for (auto& o : impl_->observers) {
-      if (o == old_observer) o = fresh;
+      if (o != old_observer) continue;
+      fresh->take_over_from(*old_observer);
+      o = fresh;
     }
     return;
   }

@@ -69,6 +69,13 @@ class AlarmEngine {
                       std::string_view comment, base::WallTimeMs t);
   base::Status unshelve(std::string_view rule, std::string_view user, base::WallTimeMs t);
 
+  // Analysis thread, before the first evaluate(): continues from `previous` (the engine this
+  // one replaces on a reload). A rule of the same name on the same reading keeps its ISA-18.2
+  // state, condition, pending delays, shelf and acknowledgement, and its baseline when the
+  // threshold mode and learning period are unchanged; its new levels apply from the next
+  // evaluate(). Other rules start normal. Returns how many rules continued.
+  size_t carry_over(const AlarmEngine& previous);
+
   // Analysis thread: installs a stored baseline for a baseline-relative rule.
   base::Status set_baseline(std::string_view rule, double median, double spread);
 

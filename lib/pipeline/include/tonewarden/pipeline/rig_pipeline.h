@@ -53,6 +53,9 @@ class RigObserver {
   // `live` is the snapshot being prepared: observers add readings to it.
   virtual void on_period(size_t channel, const ChannelPeriod& period, base::WallTimeMs t_end,
                          RigLive& live) = 0;
+  // Analysis thread, when this observer replaces `previous` (swap_observer), before its first
+  // block: carry over whatever state should survive the swap.
+  virtual void take_over_from(RigObserver& /*previous*/) {}
 };
 
 class RigPipeline {
