@@ -1,5 +1,10 @@
 // Focus: the dashboard in headless Chromium against a live daemon on the synthetic demo rig:
 // loads cleanly, draws the spectrum, shows the bearing alarm and acknowledges it with the token.
+// On a second tab, with answers replaced through the driver's request routing: the spectrogram's
+// waiting state (spectrum answers 503), the raw-clip links in the alarm log (plain link without
+// a token, bearer header with one, nothing for an event without a clip or with a bad link), and
+// the connection banner while every API request fails and after they work again. Last, the
+// banner after the daemon really stops.
 //
 // Usage: node dashboard_browser_test.mjs <tonewarden binary> <demo.toml> [screenshot dir]
 // Exits 0 when every check passes, 1 on a failure, 77 (ctest skip) when Chromium is missing.
@@ -59,6 +64,112 @@ function freePort() {
       srv.close(() => resolve(port));
     });
   });
+}
+
+// Waits until fn() is true, for up to ms; returns whether it became true (no throw).
+async function becomes(ms, fn) {
+  try { await pollUntil("condition", ms, fn, 200); return true; } catch (e) { return false; }
+}
+
+// Fake alarm-log answer: one activation with a clip, one acknowledgement without, one with a
+// link outside the evidence route (not to be linked). Shapes as GET /api/v1/alarms/events.
+const kClipPath = "/api/v1/evidence/bay4-pump/20260101T000000.000Z-motor-de-bpfo.flac";
+const kFakeEvents = { events: [
+  { id: 9003, t: "2026-01-01T00:02:00.000Z", alarm: "bay4-pump.motor-de-bpfo", rule: "motor-de-bpfo", severity: "warning",
+    state: "unacknowledged", value: 0.03, user: "", comment: "", message: "", evidence: "javascript:alert(1)" },
+  { id: 9002, t: "2026-01-01T00:01:00.000Z", alarm: "bay4-pump.motor-de-bpfo", rule: "motor-de-bpfo", severity: "warning",
+    state: "acknowledged", value: 0.02, user: "test", comment: "seen", message: "", evidence: null },
+  { id: 9001, t: "2026-01-01T00:00:00.000Z", alarm: "bay4-pump.motor-de-bpfo", rule: "motor-de-bpfo", severity: "warning",
+    state: "unacknowledged", value: 0.02, user: "", comment: "", message: "", evidence: kClipPath },
+] };
+
+// The checks that need replaced answers, on their own tab (its failed requests are expected).
+async function routedChecks(browser, base, token) {
+  const page = await browser.newPage();
+  const hidden = (sel) => page.$eval(sel, (e) => e.hidden || getComputedStyle(e).display === "none");
+  const text = async (sel) => ((await page.innerText(sel)) || "").replace(/\s+/g, " ").trim();
+
+  // 1. Spectrogram waiting state: no spectrum yet (503 as the daemon sends it), then data.
+  const noSpectrum = (r) => r.fulfill({ status: 503, contentType: "application/json", headers: { "Retry-After": "1" },
+    body: JSON.stringify({ error: { code: "no_data", message: "no spectrum yet for channel 'motor-de'" } }) });
+  const isSpectrum = (u) => u.pathname === "/api/v1/spectrum";
+  await page.route(isSpectrum, noSpectrum);
+  const isEvents = (u) => u.pathname === "/api/v1/alarms/events" && u.searchParams.get("limit") === "50";
+  await page.route(isEvents, (r) => r.fulfill({ status: 200, contentType: "application/json", body: JSON.stringify(kFakeEvents) }));
+  await page.goto(base + "/", { waitUntil: "load" });
+  // The overlay's detail names the 503 case, so this passes only once that answer was handled.
+  const waitingFor503 = async () => !(await hidden("#spectrogram-state")) && !(await hidden("#spectrum-state")) &&
+    /waiting for data.*restarting/i.test(await text("#spectrogram-state")) && /waiting for data/i.test(await text("#spectrum-state"));
+  const waiting = await becomes(5000, waitingFor503);
+  check("spectrogram shows a waiting state without data", waiting, `overlay: "${await text("#spectrogram-state")}"`);
+  await page.screenshot({ path: path.join(shotDir, "dashboard-waiting.png"), fullPage: true });
+  await page.unroute(isSpectrum, noSpectrum);
+  const live = await becomes(8000, async () => (await hidden("#spectrogram-state")) && (await hidden("#spectrum-state")));
+  check("the waiting state goes once spectra arrive", live, live ? "both overlays hidden" : `overlay still: "${await text("#spectrogram-state")}"`);
+  // A rig restarting answers 503 again: the waiting state returns over an emptied picture.
+  await page.route(isSpectrum, noSpectrum);
+  const again = await becomes(5000, waitingFor503);
+  const emptied = await page.$eval("#spectrogram-state", (e) => !e.classList.contains("over-image"));
+  check("the waiting state returns when spectra stop (503 after data)", again && emptied,
+    `overlay: "${await text("#spectrogram-state")}"; picture emptied: ${emptied}`);
+  await page.unroute(isSpectrum, noSpectrum);
+
+  // 2. Raw-clip links in the alarm log.
+  await page.waitForSelector('#log-rows tr[data-event="9001"]', { timeout: 8000 });
+  const links = await page.$$eval("#log-rows tr", (rows) => rows.map((r) => ({
+    id: r.dataset.event, hrefs: [...r.querySelectorAll("a")].map((a) => a.getAttribute("href")),
+    last: r.lastElementChild.textContent.trim() })));
+  const by = (id) => links.find((l) => l.id === id) || { hrefs: [], last: "(row missing)" };
+  const jsonPath = kClipPath.replace(/\.flac$/, ".json");
+  check("evidence links for an event with a clip", by("9001").hrefs.join(" ") === `${kClipPath} ${jsonPath}`,
+    `links: ${by("9001").hrefs.join(" ") || "none"}`);
+  check("no evidence link for an event without a clip", by("9002").hrefs.length === 0 && by("9002").last === "–",
+    `links: ${by("9002").hrefs.length}, cell "${by("9002").last}"`);
+  check("no link for an evidence value outside the evidence route", by("9003").hrefs.length === 0 && /not usable/.test(by("9003").last),
+    `links: ${by("9003").hrefs.length}, cell "${by("9003").last}"`);
+  // A click downloads the clip. Without a token the browser fetches the link itself (a download
+  // request passes no page route, and the fake clip does not exist on the daemon, so only its
+  // address is checked). With a token the page fetches it with the bearer header and hands the
+  // body over as a blob.
+  const auth = [];
+  const isClip = (u) => u.pathname === kClipPath;
+  await page.route(isClip, (r) => {
+    auth.push(r.request().headers()["authorization"] || "");
+    r.fulfill({ status: 200, contentType: "audio/flac", body: Buffer.from("fLaC test body") });
+  });
+  const clipLink = `#log-rows tr[data-event="9001"] a[href="${kClipPath}"]`;
+  const download = async () => {
+    const [d] = await Promise.all([page.waitForEvent("download", { timeout: 8000 }), page.click(clipLink)]);
+    return d;
+  };
+  const name = kClipPath.split("/").pop();
+  try {
+    const plain = await download();
+    check("clip link without a token is a plain download", plain.url() === base + kClipPath && plain.suggestedFilename() === name && auth.length === 0,
+      `download of ${plain.url()} as "${plain.suggestedFilename()}"`);
+    await page.fill("#token", token);
+    const withToken = await download();
+    const body = fs.readFileSync(await withToken.path(), "utf8");
+    check("clip download carries the bearer token once one is entered",
+      auth.length === 1 && auth[0] === "Bearer " + token && withToken.suggestedFilename() === name && body === "fLaC test body",
+      `request headers: ${auth.map((a) => a === "Bearer " + token ? "Bearer <token>" : a || "none").join(", ")}; ` +
+      `saved "${withToken.suggestedFilename()}", ${body.length} bytes`);
+  } catch (e) { check("clip downloads", false, e.message); }
+
+  // 3. Connection lost: every API request refused; then answered again.
+  const refuse = (r) => r.abort("connectionrefused");
+  const isApi = (u) => u.pathname.startsWith("/api/");
+  await page.route(isApi, refuse);
+  const lost = await becomes(6000, async () => !(await hidden("#link-banner")));
+  const summary = await text("#alarm-summary");
+  const dimmed = await page.$eval("body", (b) => b.classList.contains("link-lost"));
+  check("connection banner when the API is unreachable", lost && /unknown/.test(summary) && dimmed,
+    `banner ${lost ? "shown" : "not shown"}: "${await text("#link-banner")}"; summary "${summary}"; page dimmed: ${dimmed}`);
+  await page.screenshot({ path: path.join(shotDir, "dashboard-connection-lost.png"), fullPage: true });
+  await page.unroute(isApi, refuse);
+  const back = await becomes(6000, async () => (await hidden("#link-banner")) && !/unknown/.test(await text("#alarm-summary")));
+  check("connection banner goes on recovery", back, `banner ${back ? "hidden" : "still shown"}; summary "${await text("#alarm-summary")}"`);
+  await page.close();
 }
 
 // Results: each check records pass/fail; the run goes on after a failure where it still can.
@@ -164,6 +275,10 @@ async function main() {
   check("spectrum shows data", spectrumOk, spectrumDetail);
   await page.screenshot({ path: path.join(shotDir, "dashboard-load.png"), fullPage: true });
 
+  // While the demo works towards its alarm: the checks with replaced answers, on another tab.
+  await routedChecks(browser, base, token);
+  console.log(`routed checks done after ${elapsed()}`);
+
   // The bearing alarm: appears with an Acknowledge button, which the token makes work.
   const row = `#alarm-rows tr[data-alarm="${kAlarmId}"]`;
   let acked = false, ackDetail = "";
@@ -192,6 +307,14 @@ async function main() {
 
   check("no console or page errors", consoleErrors.length === 0,
     consoleErrors.length ? consoleErrors.slice(0, 5).join(" | ") : "none");
+
+  // The daemon stops for real: the open page says so instead of showing its last values as live.
+  daemon.kill("SIGTERM");
+  await Promise.race([new Promise((r) => daemon.once("exit", r)), sleep(10_000)]);
+  const banner = await becomes(8000, async () => page.$eval("#link-banner", (e) => !e.hidden));
+  check("connection banner after the daemon stops", banner,
+    banner ? `"${((await page.textContent("#link-banner")) || "").trim().slice(0, 80)}…"` : "no banner within 8 s");
+  await page.screenshot({ path: path.join(shotDir, "dashboard-daemon-stopped.png"), fullPage: true });
   console.log(`screenshots in ${shotDir}`);
 }
 
