@@ -131,7 +131,7 @@ std::string format_table(const AnalyzeReport& r) {
     << fmt("%.4g", r.resolution_hz) << " Hz; average " << r.average << " (" << r.frames
     << " of " << r.frames_total << " frames)\n";
   o << "time        rms " << fmt("%.6g", r.time.rms) << " " << r.time_unit << ", peak "
-    << fmt("%.6g", r.time.peak) << ", crest factor " << fmt("%.3f", r.time.crest_factor)
+    << fmt("%.6g", r.time.peak) << " " << r.time_unit << ", crest factor " << fmt("%.3f", r.time.crest_factor)
     << ", kurtosis " << fmt("%.3f", r.time.kurtosis) << " (Pearson, Gaussian = 3)\n";
   o << "overall     rms " << fmt("%.6g", r.overall_rms) << " " << r.unit << " over "
     << fmt("%g", r.overall_band.low_hz) << "-" << fmt("%g", r.overall_band.high_hz) << " Hz\n";

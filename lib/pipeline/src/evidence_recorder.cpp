@@ -123,9 +123,12 @@ base::Result<std::unique_ptr<EvidenceRecorder>> EvidenceRecorder::create(
     const EvidenceRecorderConfig& config) {
   const std::string what = "evidence for rig '" + config.rig + "': ";
   const double fs_hz = config.sample_rate_hz;
-  if (!(fs_hz >= 1.0 && fs_hz <= 655350.0) || std::floor(fs_hz) != fs_hz)
+  if (!(fs_hz >= 1.0 && fs_hz <= 655350.0) || std::floor(fs_hz) != fs_hz) {
+    char rate[32];
+    std::snprintf(rate, sizeof rate, "%g", fs_hz);
     return make_error(ErrorCode::kInvalidArgument,
-                      what + "sample rate " + std::to_string(fs_hz) + " Hz is not a whole number FLAC can store");
+                      what + "sample rate " + rate + " Hz is not a whole number FLAC can store");
+  }
   if (config.channels.empty() || config.channels.size() > kMaxChannels)
     return make_error(ErrorCode::kInvalidArgument,
                       what + std::to_string(config.channels.size()) + " channels; clips hold 1..8");

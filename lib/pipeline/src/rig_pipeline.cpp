@@ -5,6 +5,7 @@
 #include <chrono>
 #include <cmath>
 #include <condition_variable>
+#include <cstdio>
 #include <mutex>
 #include <optional>
 #include <semaphore>
@@ -380,9 +381,10 @@ uint64_t RigPipeline::num_periods() const noexcept { return impl_->periods.load(
 double RigPipeline::first_frame_latency_ms() const noexcept { return impl_->first_frame_ms.load(); }
 
 std::string RigPipeline::describe() const {
+  char rate[32];
+  std::snprintf(rate, sizeof rate, "%g", impl_->caps.sample_rate_hz);
   return "rig '" + impl_->config.rig + "': " + std::to_string(impl_->config.channels.size()) +
-         " channels at " + std::to_string(impl_->caps.sample_rate_hz) + " Hz from " +
-         impl_->source->describe();
+         " channels at " + rate + " Hz from " + impl_->source->describe();
 }
 
 }  // namespace tonewarden::pipeline

@@ -7,6 +7,7 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <cstdio>
 #include <atomic>
 #include <cctype>
 #include <chrono>
@@ -178,9 +179,10 @@ struct DeviceSource::Impl {
                                 &Impl::callback, this);
     if (err != paNoError) {
       stream = nullptr;
-      return make_error(ErrorCode::kUnavailable, "opening '" + pick->name + "' at " +
-                                                    std::to_string(config.sample_rate_hz) + " Hz: " +
-                                                    Pa_GetErrorText(err));
+      char rate[32];
+      std::snprintf(rate, sizeof rate, "%g", config.sample_rate_hz);
+      return make_error(ErrorCode::kUnavailable,
+                        "opening '" + pick->name + "' at " + rate + " Hz: " + Pa_GetErrorText(err));
     }
     Pa_SetStreamFinishedCallback(stream, &Impl::finished);
     stream_failed.store(false);
