@@ -3,6 +3,8 @@
 
 #include <gtest/gtest.h>
 
+#include <cstdint>
+
 namespace tonewarden::base {
 namespace {
 
@@ -23,6 +25,14 @@ TEST(TimeTest, ParsesUnixMilliseconds) {
   WallTimeMs t;
   ASSERT_TRUE(parse_time("1700000000123", &t));
   EXPECT_EQ(t.unix_ms, 1700000000123);
+  // The int64 limits parse; one past them is refused, not thrown.
+  ASSERT_TRUE(parse_time("9223372036854775807", &t));
+  EXPECT_EQ(t.unix_ms, INT64_MAX);
+  ASSERT_TRUE(parse_time("-9223372036854775808", &t));
+  EXPECT_EQ(t.unix_ms, INT64_MIN);
+  EXPECT_FALSE(parse_time("9223372036854775808", &t));
+  EXPECT_FALSE(parse_time("99999999999999999999999", &t));
+  EXPECT_FALSE(parse_time("-", &t));
 }
 
 TEST(TimeTest, RejectsMalformedTimes) {

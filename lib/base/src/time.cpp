@@ -2,6 +2,7 @@
 #include "tonewarden/base/time.h"
 
 #include <cctype>
+#include <charconv>
 #include <cmath>
 #include <cstdio>
 #include <ctime>
@@ -55,8 +56,10 @@ bool parse_time(const std::string& text, WallTimeMs* out) {
   bool all_digits = i < text.size();
   for (size_t k = i; k < text.size(); ++k) all_digits &= std::isdigit(static_cast<unsigned char>(text[k])) != 0;
   if (all_digits) {
-    if (text.size() > 19) return false;
-    out->unix_ms = std::stoll(text);
+    int64_t v = 0;
+    const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), v);
+    if (ec != std::errc() || end != text.data() + text.size()) return false;  // out of int64 range
+    out->unix_ms = v;
     return true;
   }
   size_t p = 0;
