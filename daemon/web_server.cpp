@@ -172,6 +172,11 @@ struct WebServer::Impl : public http::StatusProvider,
         } else {
           src.state = "starting";
         }
+        if (r.evidence) {
+          src.evidence_clips = r.evidence->num_clips_written();
+          src.evidence_skipped = r.evidence->num_clips_skipped();
+          src.evidence_failures = r.evidence->num_write_failures();
+        }
         if (src.state == "lost") {
           s.healthy = false;
           s.unhealthy_reason = "rig '" + r.name + "': source lost: " + src.detail;

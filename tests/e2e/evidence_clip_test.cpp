@@ -164,6 +164,17 @@ TEST_F(EvidenceClipTest, AlarmClipIsTheRecordsOwnSamplesAndAnalyzesAgain) {
   ASSERT_EQ(clip_status, 200) << clip_body;
   EXPECT_EQ(clip_type, "audio/flac");
   EXPECT_EQ(clip_body.compare(0, 4, "fLaC"), 0);  // FLAC stream marker
+  // Counted in the rig's status once written (the file is served after its rename, and the
+  // counter moves right after that).
+  int64_t clips = -1;
+  for (int i = 0; i < 100 && clips != 1; ++i) {
+    if (auto st = http.Get("/api/v1/status"); st && st->status == 200) {
+      const json j = json::parse(st->body, nullptr, false);
+      if (!j.is_discarded()) clips = j["sources"][0]["evidence"]["clips"].get<int64_t>();
+    }
+    if (clips != 1) std::this_thread::sleep_for(50ms);
+  }
+  EXPECT_EQ(clips, 1);
   auto traversal = http.Get("/api/v1/evidence/test-stand-7/..%2F..%2Ftonewarden.db");
   ASSERT_TRUE(traversal);
   EXPECT_EQ(traversal->status, 400);

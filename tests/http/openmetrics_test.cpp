@@ -25,6 +25,8 @@ StatusInfo sample_status() {
   a.frames = 100;
   a.overflows = 1;
   a.drops = 7;
+  a.evidence_clips = 2;
+  a.evidence_failures = 1;
   s.sources = {a};
   s.storage.rows_written = 55;
   return s;
@@ -81,6 +83,13 @@ TEST(OpenMetricsTest, ExpositionShape) {
   EXPECT_NE(text.find("tonewarden_source_overflows_total{source=\"usb \\\"A\\\"\"} 1\n"),
             std::string::npos);
   EXPECT_NE(text.find("tonewarden_source_drops_total{source=\"usb \\\"A\\\"\"} 7\n"),
+            std::string::npos);
+  EXPECT_NE(text.find("# TYPE tonewarden_evidence_clips counter\n"), std::string::npos);
+  EXPECT_NE(text.find("tonewarden_evidence_clips_total{source=\"usb \\\"A\\\"\",result=\"written\"} 2\n"),
+            std::string::npos);
+  EXPECT_NE(text.find("tonewarden_evidence_clips_total{source=\"usb \\\"A\\\"\",result=\"skipped\"} 0\n"),
+            std::string::npos);
+  EXPECT_NE(text.find("tonewarden_evidence_clips_total{source=\"usb \\\"A\\\"\",result=\"failed\"} 1\n"),
             std::string::npos);
   EXPECT_NE(text.find("tonewarden_http_requests_total{class=\"2xx\"} 10\n"), std::string::npos);
   EXPECT_NE(text.find("tonewarden_http_requests_total{class=\"4xx\"} 3\n"), std::string::npos);

@@ -27,7 +27,10 @@ Json to_json(const SourceStatus& s) {
               {"frames", s.frames},
               {"overflows", s.overflows},
               {"drops", s.drops},
-              {"last_frame", time_json(s.last_frame)}};
+              {"last_frame", time_json(s.last_frame)},
+              {"evidence", {{"clips", s.evidence_clips},
+                            {"skipped", s.evidence_skipped},
+                            {"failures", s.evidence_failures}}}};
 }
 
 Json to_json(const StatusInfo& s) {

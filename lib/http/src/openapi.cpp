@@ -21,7 +21,9 @@ constexpr const char* kSchemas = R"json({
     "name": {"type": "string"}, "state": {"type": "string"}, "detail": {"type": "string"},
     "sample_rate_hz": {"$ref": "#/components/schemas/Number"},
     "frames": {"type": "integer"}, "overflows": {"type": "integer"}, "drops": {"type": "integer"},
-    "last_frame": {"$ref": "#/components/schemas/Time"}}},
+    "last_frame": {"$ref": "#/components/schemas/Time"},
+    "evidence": {"type": "object", "description": "raw clips around alarm activations since start", "properties": {
+      "clips": {"type": "integer"}, "skipped": {"type": "integer"}, "failures": {"type": "integer"}}}}},
   "Status": {"type": "object", "properties": {
     "version": {"type": "string"}, "uptime_s": {"type": "number"}, "healthy": {"type": "boolean"},
     "unhealthy_reason": {"type": "string"},

@@ -86,6 +86,16 @@ std::string render_openmetrics(const MetricsInput& in) {
       family(out, "tonewarden_source_drops", "counter", "Samples lost in capture gaps.");
       for (const auto& src : s.sources)
         sample(out, "tonewarden_source_drops_total", {{"source", src.name}}, u64(src.drops));
+      family(out, "tonewarden_evidence_clips", "counter",
+             "Activations by what became of their raw clip: written, skipped or failed.");
+      for (const auto& src : s.sources) {
+        sample(out, "tonewarden_evidence_clips_total", {{"source", src.name}, {"result", "written"}},
+               u64(src.evidence_clips));
+        sample(out, "tonewarden_evidence_clips_total", {{"source", src.name}, {"result", "skipped"}},
+               u64(src.evidence_skipped));
+        sample(out, "tonewarden_evidence_clips_total", {{"source", src.name}, {"result", "failed"}},
+               u64(src.evidence_failures));
+      }
     }
     family(out, "tonewarden_store_rows_written", "counter", "Rows committed to the database.");
     sample(out, "tonewarden_store_rows_written_total", {}, u64(s.storage.rows_written));

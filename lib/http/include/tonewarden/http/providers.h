@@ -36,6 +36,10 @@ struct SourceStatus {
   uint64_t overflows = 0;   // capture ring overflows since start
   uint64_t drops = 0;       // samples lost (gaps) since start
   WallTimeMs last_frame{};  // unix_ms 0: none yet
+  // Raw evidence clips of this rig since start (all 0 when clips are off).
+  uint64_t evidence_clips = 0;     // written
+  uint64_t evidence_skipped = 0;   // activations that got no clip (interval, busy writer)
+  uint64_t evidence_failures = 0;  // clips lost to write errors (disk full, ...)
 };
 
 struct StorageStatus {
