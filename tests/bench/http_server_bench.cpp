@@ -5,6 +5,7 @@
 #include <signal.h>
 
 #include <cstdio>
+#include <algorithm>
 #include <cstdlib>
 #include <string>
 
@@ -50,6 +51,24 @@ class BenchLive : public LiveProvider {
     s.magnitudes.assign(32768, 1e-3f);
     s.magnitudes[1234] = 1.0f;
     return s;
+  }
+  // A full history: 600 rows of 1024 points, as the daemon keeps at most.
+  Result<Spectrogram> spectrogram(const std::string& channel, size_t max_rows) override {
+    Spectrogram g;
+    g.channel = channel;
+    g.unit = "g";
+    g.bin_hz = 0.5;
+    g.num_bins = 32768;
+    g.capacity = 600;
+    for (size_t i = 0; i < 1024; ++i) g.frequency_hz.push_back(static_cast<double>(i * 32) * 0.5);
+    const size_t n = std::min<size_t>(max_rows, 600);
+    for (size_t r = 0; r < n; ++r) {
+      SpectrogramRow row{base::WallTimeMs{1796169600000 + static_cast<int64_t>(r) * 680}, {}};
+      row.db.assign(1024, -61.7f);
+      row.db[38] = -3.2f;
+      g.rows.push_back(std::move(row));
+    }
+    return g;
   }
   std::vector<Reading> readings() override {
     return {{"bay4.motor_de.velocity_rms", "bay4", "motor_de", "", "velocity_rms", "mm/s", 2.8,

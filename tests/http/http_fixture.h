@@ -5,6 +5,7 @@
 #include <gtest/gtest.h>
 #include <httplib.h>
 
+#include <algorithm>
 #include <memory>
 #include <mutex>
 #include <nlohmann/json.hpp>
@@ -88,11 +89,37 @@ class FakeLive : public LiveProvider {
     s.thresholds = {{"motor_bpfo_level", "warning", 0.5, 0, 6}};
     return s;
   }
+  // motor_de: kSpectrogramRows rows, 1 s apart from kT0Ms, of 12 kept points over 48 bins of
+  // 0.5 Hz (4 bins per point: buckets start at 0, 2, 4, ... 22 Hz); row r is kRowDb + r dB.
+  // pump_de: none yet (kNotFound).
+  static constexpr size_t kSpectrogramRows = 3;
+  static constexpr float kRowDb[12] = {-60, -40, -50, -70, -30, -20, -60, -55, -45, -35, -25, -80};
+  Result<Spectrogram> spectrogram(const std::string& channel, size_t max_rows) override {
+    {
+      std::lock_guard<std::mutex> lock(mu);
+      last_max_rows = max_rows;
+    }
+    if (channel != "motor_de") return base::make_error(ErrorCode::kNotFound, "no spectrum yet");
+    Spectrogram g;
+    g.channel = channel;
+    g.unit = "g";
+    g.bin_hz = 0.5;
+    g.num_bins = 48;
+    g.capacity = 600;
+    for (int i = 0; i < 12; ++i) g.frequency_hz.push_back(2.0 * i);
+    for (size_t r = kSpectrogramRows - std::min(max_rows, kSpectrogramRows); r < kSpectrogramRows; ++r) {
+      SpectrogramRow row{WallTimeMs{kT0Ms + static_cast<int64_t>(r) * 1000}, {}};
+      for (float v : kRowDb) row.db.push_back(v + static_cast<float>(r));
+      g.rows.push_back(std::move(row));
+    }
+    return g;
+  }
   std::vector<Reading> readings() override {
     std::lock_guard<std::mutex> lock(mu);
     return list;
   }
   std::mutex mu;
+  size_t last_max_rows = 0;
   std::vector<Reading> list = {
       {kMotorSeries, "bay4", "motor_de", "bpfo", "amplitude", "g", 0.25, WallTimeMs{kT0Ms}},
       {kVelocitySeries, "bay4", "motor_de", "", "velocity_rms", "mm/s", 2.8, WallTimeMs{kT0Ms}},

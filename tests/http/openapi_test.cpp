@@ -12,7 +12,8 @@ using OpenApiTest = HttpServerTest;
 // The API as designed (the expected value): method and path of every route.
 const std::vector<std::pair<std::string, std::string>> kRoutes = {
     {"get", "/api/v1/status"},          {"get", "/api/v1/config"},
-    {"get", "/api/v1/spectrum"},        {"get", "/api/v1/readings"},
+    {"get", "/api/v1/spectrum"},        {"get", "/api/v1/spectrogram"},
+    {"get", "/api/v1/readings"},
     {"get", "/api/v1/series"},          {"get", "/api/v1/trends"},
     {"get", "/api/v1/alarms"},          {"get", "/api/v1/alarms/events"},
     {"post", "/api/v1/alarms/{alarm}/acknowledge"},
@@ -53,6 +54,10 @@ TEST_F(OpenApiTest, ParametersBodiesAndErrorsAreDocumented) {
   EXPECT_EQ(names("/api/v1/alarms/events", "get"),
             (std::set<std::string>{"from", "to", "limit", "state", "rule"}));
   EXPECT_EQ(names("/api/v1/spectrum", "get"), (std::set<std::string>{"channel", "points"}));
+  EXPECT_EQ(names("/api/v1/spectrogram", "get"),
+            (std::set<std::string>{"channel", "rows", "points"}));
+  for (const char* status : {"400", "404", "503"})
+    EXPECT_TRUE(doc["paths"]["/api/v1/spectrogram"]["get"]["responses"].contains(status)) << status;
   EXPECT_EQ(names("/api/v1/snapshots/{id}", "get"), (std::set<std::string>{"id", "points"}));
   const json& points = doc["paths"]["/api/v1/trends"]["get"]["parameters"][3]["schema"];
   EXPECT_EQ(points["minimum"], 2);

@@ -13,11 +13,22 @@ namespace {
 
 ConfigView config_of(Ctx& c) { return need(c.state.providers.status, "status").config(); }
 
-void check_channel(const ConfigView& cfg, const std::string& channel) {
+// `status`: 400 where the channel filters or shapes a request, 404 where it names the resource.
+void check_channel(const ConfigView& cfg, const std::string& channel, int status = 400) {
   for (const auto& ch : cfg.channels)
     if (ch.id == channel) return;
-  throw ApiError(400, "unknown_channel", "no channel '" + channel + "' is configured",
+  throw ApiError(status, "unknown_channel", "no channel '" + channel + "' is configured",
                  "channel");
+}
+
+// The 503 of a live route before the channel's first spectrum: clients retry in a second.
+[[noreturn]] void throw_no_data(Ctx& c, const base::Error& e, const std::string& what,
+                                const std::string& channel) {
+  if (e.code == base::ErrorCode::kNotFound) {
+    c.res.set_header("Retry-After", "1");
+    throw ApiError(503, "no_data", "no " + what + " yet for channel '" + channel + "'");
+  }
+  throw_provider_error(e, what + " of " + channel);
 }
 
 void check_rig(const ConfigView& cfg, const std::string& rig) {
@@ -50,13 +61,7 @@ void get_spectrum(Ctx& c) {
   const auto points = static_cast<size_t>(c.integer("points", kDefaultSpectrumPoints));
   check_channel(config_of(c), channel);
   auto spec = need(c.state.providers.live, "live").spectrum(channel);
-  if (!spec) {
-    if (spec.error().code == base::ErrorCode::kNotFound) {
-      c.res.set_header("Retry-After", "1");
-      throw ApiError(503, "no_data", "no spectrum yet for channel '" + channel + "'");
-    }
-    throw_provider_error(spec.error(), "spectrum of " + channel);
-  }
+  if (!spec) throw_no_data(c, spec.error(), "spectrum", channel);
   const LiveSpectrum& s = *spec;
   const DecimatedSpectrum d = decimate_max(s.magnitudes, s.bin_hz, points);
   Json peaks = Json::array(), markers = Json::array(), thresholds = Json::array(),
@@ -78,6 +83,46 @@ void get_spectrum(Ctx& c) {
           {"peaks", std::move(peaks)},
           {"markers", std::move(markers)},
           {"thresholds", std::move(thresholds)}});
+}
+
+// dB to 0.1 dB, a step well below what a colour map shows, so rows stay short in JSON.
+Json db_json(float db) { return number_json(std::round(static_cast<double>(db) * 10.0) / 10.0); }
+
+void get_spectrogram(Ctx& c) {
+  const std::string channel = *c.text("channel");
+  const auto rows = static_cast<size_t>(c.integer("rows", kDefaultSpectrogramRows));
+  const auto points = static_cast<size_t>(c.integer("points", kDefaultSpectrogramPoints));
+  check_channel(config_of(c), channel, 404);
+  auto got = need(c.state.providers.live, "live").spectrogram(channel, rows);
+  if (!got) throw_no_data(c, got.error(), "spectrogram", channel);
+  const Spectrogram& g = *got;
+  if (g.rows.empty()) throw_no_data(c, base::Error{base::ErrorCode::kNotFound, ""}, "spectrogram", channel);
+  // Fewer points than kept: max-pool again, in buckets of kept points laid out as decimate_max
+  // lays out bins, so bucket j starts at kept point floor(j*m/p).
+  const size_t m = g.frequency_hz.size();
+  const size_t p = std::min(points, m);
+  Json freqs = Json::array(), list = Json::array();
+  for (size_t j = 0; j < p; ++j) freqs.push_back(g.frequency_hz[j * m / p]);
+  for (const SpectrogramRow& row : g.rows) {
+    Json dbs = Json::array();
+    if (p < m) {
+      for (float v : decimate_max(row.db, 1.0, p).magnitude) dbs.push_back(db_json(v));
+    } else {
+      for (float v : row.db) dbs.push_back(db_json(v));
+    }
+    list.push_back({{"t", time_json(row.t)}, {"db", std::move(dbs)}});
+  }
+  c.json({{"channel", g.channel},
+          {"unit", g.unit},
+          {"level", "dB re 1 " + g.unit + " RMS"},
+          {"bin_hz", number_json(g.bin_hz)},
+          {"num_bins", g.num_bins},
+          {"decimation", "max"},
+          {"frequency_hz", std::move(freqs)},
+          {"max_frequency_hz", number_json(g.num_bins ? (g.num_bins - 1) * g.bin_hz : 0.0)},
+          {"capacity", g.capacity},
+          {"order", "oldest_first"},
+          {"rows", std::move(list)}});
 }
 
 void get_readings(Ctx& c) {
@@ -172,6 +217,20 @@ void add_api_routes(std::vector<Route>& routes) {
     r.success_schema = "Spectrum";
     r.errors = {503};
     r.handler = get_spectrum;
+    routes.push_back(std::move(r));
+  }
+  {
+    Route r{"GET", "/api/v1/spectrogram", "live",
+            "Recent spectra of a channel in dB, oldest first, each decimated keeping the maximum "
+            "of each bucket"};
+    r.params = {string_param("channel", "configured channel id", true),
+                int_param("rows", 1, kMaxSpectrogramRows, kDefaultSpectrogramRows,
+                          "newest rows returned (fewer while the history is shorter)"),
+                int_param("points", kMinSpectrogramPoints, kMaxSpectrogramPoints,
+                          kDefaultSpectrogramPoints, "points per row (buckets of bins)")};
+    r.success_schema = "Spectrogram";
+    r.errors = {404, 503};
+    r.handler = get_spectrogram;
     routes.push_back(std::move(r));
   }
   {

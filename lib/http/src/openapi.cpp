@@ -54,6 +54,18 @@ constexpr const char* kSchemas = R"json({
     "peaks": {"type": "array", "items": {"type": "object", "properties": {"frequency_hz": {"type": "number"}, "amplitude": {"type": "number"}}}},
     "markers": {"type": "array", "items": {"type": "object", "properties": {"target": {"type": "string"}, "frequency_hz": {"type": "number"}, "amplitude": {"$ref": "#/components/schemas/Number"}}}},
     "thresholds": {"type": "array", "items": {"type": "object", "properties": {"rule": {"type": "string"}, "severity": {"type": "string"}, "level": {"type": "number"}, "f_lo_hz": {"type": "number"}, "f_hi_hz": {"type": "number"}}}}}},
+  "Spectrogram": {"type": "object", "properties": {
+    "channel": {"type": "string"}, "unit": {"type": "string"},
+    "level": {"type": "string", "description": "what the dB values are: dB re 1 unit RMS, i.e. 10*log10 of power in unit^2; -400 for no power"},
+    "bin_hz": {"type": "number"}, "num_bins": {"type": "integer", "description": "bins before decimation"},
+    "decimation": {"type": "string", "enum": ["max"]},
+    "frequency_hz": {"type": "array", "items": {"type": "number"}, "description": "lowest frequency of each point's bucket; a bucket ends where the next begins, the last at max_frequency_hz"},
+    "max_frequency_hz": {"type": "number"},
+    "capacity": {"type": "integer", "description": "rows the daemon keeps per channel"},
+    "order": {"type": "string", "enum": ["oldest_first"]},
+    "rows": {"type": "array", "items": {"type": "object", "properties": {
+      "t": {"$ref": "#/components/schemas/Time"},
+      "db": {"type": "array", "items": {"$ref": "#/components/schemas/Number"}, "description": "bucket maxima, dB rounded to 0.1"}}}}}},
   "Reading": {"type": "object", "properties": {
     "series": {"type": "string"}, "rig": {"type": "string"}, "channel": {"type": "string"},
     "target": {"type": "string"}, "metric": {"type": "string"}, "unit": {"type": "string"},

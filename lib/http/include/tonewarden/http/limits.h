@@ -35,6 +35,13 @@ inline constexpr int kEventRetryMs = 3000;                 // reconnect delay to
 inline constexpr size_t kMinSpectrumPoints = 2;            // ?points= for live spectra
 inline constexpr size_t kMaxSpectrumPoints = 65536;
 inline constexpr size_t kDefaultSpectrumPoints = 1024;
+// Spectrogram history: rows kept per channel and points (frequency buckets) per row. The
+// daemon keeps every row at kMaxSpectrogramPoints; a request may ask for fewer of either.
+inline constexpr size_t kMaxSpectrogramRows = 600;         // ?rows= (and the history's depth)
+inline constexpr size_t kDefaultSpectrogramRows = 120;
+inline constexpr size_t kMinSpectrogramPoints = 2;         // ?points= for spectrogram rows
+inline constexpr size_t kMaxSpectrogramPoints = 1024;
+inline constexpr size_t kDefaultSpectrogramPoints = 1024;
 inline constexpr size_t kMinTrendPoints = 2;               // ?points= for trends
 inline constexpr size_t kMaxTrendPoints = 10000;
 inline constexpr size_t kDefaultTrendPoints = 1000;

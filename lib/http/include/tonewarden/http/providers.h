@@ -137,11 +137,32 @@ struct Reading {
   WallTimeMs t{};
 };
 
+// Recent spectra of one channel for a spectrogram: each row max-pooled to a fixed set of
+// frequency buckets (tonal peaks keep their height) and expressed in dB.
+struct SpectrogramRow {
+  WallTimeMs t{};          // wall time of the spectrum's averaging period end
+  std::vector<float> db;   // one value per bucket; dB re 1 unit RMS (10*log10 of unit^2)
+};
+struct Spectrogram {
+  std::string channel;
+  std::string unit;        // engineering unit the dB values refer to ("dB re 1 g RMS")
+  double bin_hz = 0;       // bin spacing of the full spectrum; bin k is at k*bin_hz
+  size_t num_bins = 0;     // bins of the full spectrum
+  // Lowest frequency of each bucket, ascending: bucket i holds bins from frequency_hz[i]
+  // up to, not including, frequency_hz[i + 1] (the last one up to (num_bins-1)*bin_hz).
+  std::vector<double> frequency_hz;
+  size_t capacity = 0;     // rows the history keeps at most
+  std::vector<SpectrogramRow> rows;  // oldest first, times strictly increasing
+};
+
 class LiveProvider {
  public:
   virtual ~LiveProvider() = default;
   // Latest spectrum of a configured channel; kNotFound if none yet.
   virtual Result<LiveSpectrum> spectrum(const std::string& channel) = 0;
+  // The newest `max_rows` (>= 1) rows of the channel's spectrogram history; kNotFound while
+  // the channel has none (no spectrum yet, or its rig just restarted).
+  virtual Result<Spectrogram> spectrogram(const std::string& channel, size_t max_rows) = 0;
   virtual std::vector<Reading> readings() = 0;
 };
 
