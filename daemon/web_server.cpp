@@ -16,6 +16,9 @@
 #include <thread>
 
 #include "tonewarden/base/log.h"
+#include "tonewarden/dsp/scaling.h"
+#include "tonewarden/http/decimate.h"
+#include "tonewarden/http/limits.h"
 #include "tonewarden/http/providers.h"
 #include "tonewarden/http/server.h"
 #include "tonewarden/pipeline/evidence_recorder.h"
@@ -115,6 +118,23 @@ struct WebServer::Impl : public http::StatusProvider,
   bool stopping = false;
   std::thread publisher;
   std::vector<uint64_t> last_publication;
+
+  // Spectrogram history per vibration channel (names are unique across rigs), written by the
+  // publisher thread from LiveState snapshots, read by HTTP workers; the analysis threads never
+  // see it. Bound: http::kMaxSpectrogramRows (600) rows of http::kMaxSpectrogramPoints (1024)
+  // floats, i.e. 600 x 1024 x 4 B = 2.4 MiB of dB values per channel plus 8 B of time a row.
+  // The publisher samples every 250 ms, so spectra that come faster are thinned to that rate.
+  struct ChannelHistory {
+    const pipeline::RigPipeline* run = nullptr;  // the rig run the rows come from
+    uint64_t periods = 0;                        // the chain's period count at the newest row
+    std::string unit;
+    double bin_hz = 0;
+    size_t num_bins = 0;
+    std::vector<double> frequency_hz;            // lowest frequency of each kept bucket
+    std::deque<http::SpectrogramRow> rows;       // oldest first, times strictly increasing
+  };
+  std::mutex history_mu;
+  std::map<std::string, ChannelHistory> history;
 
   // ---- helpers ----
   struct ReaderLease {
@@ -250,6 +270,62 @@ struct WebServer::Impl : public http::StatusProvider,
       }
     }
     return make_error(ErrorCode::kNotFound, "no live spectrum for channel '" + channel + "' yet");
+  }
+
+  base::Result<http::Spectrogram> spectrogram(const std::string& channel, size_t max_rows) override {
+    http::Spectrogram g;
+    std::lock_guard lock(history_mu);
+    auto it = history.find(channel);
+    if (it == history.end() || it->second.rows.empty()) {
+      return make_error(ErrorCode::kNotFound, "no spectrum for channel '" + channel + "' yet");
+    }
+    const ChannelHistory& h = it->second;
+    g.channel = channel;
+    g.unit = h.unit;
+    g.bin_hz = h.bin_hz;
+    g.num_bins = h.num_bins;
+    g.frequency_hz = h.frequency_hz;
+    g.capacity = http::kMaxSpectrogramRows;
+    const size_t n = std::min(max_rows, h.rows.size());
+    g.rows.assign(h.rows.end() - static_cast<std::ptrdiff_t>(n), h.rows.end());
+    return g;
+  }
+
+  // Publisher thread: adds each vibration channel's spectrum to its history when it is new.
+  // A rig run that changed (another pipeline, a chain counting periods from 0 again), a time
+  // that went backwards or a changed bin layout or unit starts the history over.
+  void record_spectra(const Rig& rig, const pipeline::RigLive& live) {
+    const config::RigConfig* rc = rig_config(rig.name);
+    for (const pipeline::ChannelLive& ch : live.channels) {
+      bool vibration = false;
+      if (rc) {
+        for (const auto& c : rc->channels) vibration |= c.name == ch.name && c.role != config::ChannelRole::kTach;
+      }
+      if (!vibration) continue;
+      std::lock_guard lock(history_mu);
+      ChannelHistory& h = history[ch.name];
+      const bool same_run = h.run == rig.pipeline.get() && ch.periods >= h.periods;
+      const bool same_layout = ch.power.size() == h.num_bins && ch.bin_hz == h.bin_hz && ch.unit == h.unit;
+      if (!h.rows.empty() && (!same_run || !same_layout || ch.power.empty() || ch.t < h.rows.back().t)) {
+        h.rows.clear();
+      }
+      h.run = rig.pipeline.get();
+      h.periods = ch.periods;
+      if (ch.power.empty() || (!h.rows.empty() && ch.t <= h.rows.back().t)) continue;
+      if (h.rows.empty()) {
+        h.unit = ch.unit;
+        h.bin_hz = ch.bin_hz;
+        h.num_bins = ch.power.size();
+        const size_t m = std::min(http::kMaxSpectrogramPoints, h.num_bins);
+        h.frequency_hz.resize(m);
+        for (size_t i = 0; i < m; ++i) h.frequency_hz[i] = static_cast<double>(i * h.num_bins / m) * h.bin_hz;
+      }
+      // Max-pool the power (unit^2), then dB re 1 unit RMS: 10*log10 of the bucket maximum.
+      http::SpectrogramRow row{ch.t, http::decimate_max(ch.power, ch.bin_hz, h.frequency_hz.size()).magnitude};
+      for (float& v : row.db) v = static_cast<float>(dsp::to_db(v, 1.0, dsp::SpectrumScale::kPower));
+      if (h.rows.size() >= http::kMaxSpectrogramRows) h.rows.pop_front();
+      h.rows.push_back(std::move(row));
+    }
   }
 
   http::LiveSpectrum make_live_spectrum(const pipeline::RigLive& live, const pipeline::ChannelLive& ch) {
@@ -579,6 +655,7 @@ struct WebServer::Impl : public http::StatusProvider,
       last_publication.resize(rigs->size(), 0);
       for (size_t i = 0; i < rigs->size(); ++i) {
         auto live = (*rigs)[i].pipeline->live();
+        if (live) record_spectra((*rigs)[i], *live);
         if (!live || live->readings.empty() || live->publications == last_publication[i]) continue;
         last_publication[i] = live->publications;
         std::vector<http::Reading> rs;

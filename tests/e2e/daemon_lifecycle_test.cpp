@@ -15,6 +15,9 @@
 #include <sstream>
 #include <string>
 #include <thread>
+#include <vector>
+
+#include <nlohmann/json.hpp>
 
 #include "support/subprocess.h"
 
@@ -22,6 +25,7 @@ namespace tonewarden {
 namespace {
 
 using namespace std::chrono_literals;
+using nlohmann::json;
 namespace fs = std::filesystem;
 
 std::string read_file(const fs::path& p) {
@@ -85,6 +89,46 @@ class NotifySocket {
   int fd_ = -1;
   std::string all_;
 };
+
+// Polls GET /api/v1/spectrogram until it holds at least 5 rows (10 s at most) and checks them.
+void expect_spectrogram_history(httplib::Client& http) {
+  json j;
+  for (int i = 0; i < 100; ++i) {
+    auto r = http.Get("/api/v1/spectrogram?channel=motor-de&rows=600&points=1024");
+    if (r && r->status == 200) j = json::parse(r->body, nullptr, false);
+    if (j.is_object() && j["rows"].size() >= 5) break;
+    std::this_thread::sleep_for(100ms);
+  }
+  ASSERT_TRUE(j.is_object() && j["rows"].size() >= 5) << j.dump().substr(0, 400);
+  EXPECT_EQ(j["order"], "oldest_first");
+  EXPECT_EQ(j["level"], "dB re 1 g RMS");
+  // block_samples 8192 zero-padded to 16384 (pad_factor's default 2) at 48 kHz: 8193 bins of
+  // 48000/16384 = 2.9296875 Hz, kept as 1024 buckets.
+  EXPECT_EQ(j["num_bins"], 8193);
+  EXPECT_DOUBLE_EQ(j["bin_hz"].get<double>(), 48000.0 / 16384);
+  const auto freqs = j["frequency_hz"].get<std::vector<double>>();
+  ASSERT_EQ(freqs.size(), 1024u);
+  std::string previous;
+  for (const json& row : j["rows"]) {
+    const std::string t = row["t"].get<std::string>();
+    EXPECT_GT(t, previous);  // RFC 3339 UTC with fixed digits: text order is time order
+    previous = t;
+    const auto db = row["db"].get<std::vector<double>>();
+    ASSERT_EQ(db.size(), 1024u);
+    size_t loudest = 0;
+    for (size_t i = 0; i < db.size() && freqs[i] < 500; ++i)
+      if (db[i] > db[loudest]) loudest = i;
+    const double hi = loudest + 1 < freqs.size() ? freqs[loudest + 1] : 1e9;
+    EXPECT_TRUE(freqs[loudest] <= 49.6 && 49.6 < hi) << "loudest bucket " << freqs[loudest] << " Hz";
+    // 1x: 0.08 g peak = 0.0566 g RMS = -24.9 dB re 1 g (hand computed; the tolerance covers
+    // the Hann scalloping loss, at most 1.4 dB); white noise 0.015 g RMS over 24 kHz puts a
+    // 5.86 Hz resolution cell near -71 dB (hand estimate): 20 dB above the median is safe.
+    std::vector<double> sorted = db;
+    std::nth_element(sorted.begin(), sorted.begin() + sorted.size() / 2, sorted.end());
+    EXPECT_GT(db[loudest], sorted[sorted.size() / 2] + 20) << "1x at " << db[loudest] << " dB";
+    EXPECT_NEAR(db[loudest], -24.9, 3.0);
+  }
+}
 
 class DaemonLifecycleTest : public ::testing::Test {
  protected:
@@ -150,6 +194,11 @@ TEST_F(DaemonLifecycleTest, StartsServesReloadsAndStopsInOrder) {
     if (!got_spectrum) std::this_thread::sleep_for(100ms);
   }
   EXPECT_TRUE(got_spectrum) << log();
+
+  // The spectrogram history fills from the live spectra: several rows, times increasing, and
+  // the motor's 1x (2975 rpm / 60 = 49.6 Hz; 0.08 g peak, the strongest tone of the demo
+  // rig's motor channel) as the loudest point below 500 Hz, well above the noise floor.
+  expect_spectrogram_history(http);
 
   // SIGHUP with a good file: the changed rule level applies live.
   std::ofstream(config_) << rig_config((dir_ / "data").string(), 0.25);
