@@ -1,5 +1,6 @@
 // Focus: the dashboard in headless Chromium against a live daemon on the synthetic demo rig:
-// loads cleanly, draws the spectrum, shows the bearing alarm and acknowledges it with the token.
+// loads cleanly, opens the spectrogram filled with the daemon's recent history, draws the
+// spectrum, shows the bearing alarm and acknowledges it with the token.
 // On a second tab, with answers replaced through the driver's request routing: the spectrogram's
 // waiting state (spectrum answers 503), the raw-clip links in the alarm log (plain link without
 // a token, bearer header with one, nothing for an event without a clip or with a bad link), and
@@ -92,7 +93,8 @@ async function routedChecks(browser, base, token) {
   // 1. Spectrogram waiting state: no spectrum yet (503 as the daemon sends it), then data.
   const noSpectrum = (r) => r.fulfill({ status: 503, contentType: "application/json", headers: { "Retry-After": "1" },
     body: JSON.stringify({ error: { code: "no_data", message: "no spectrum yet for channel 'motor-de'" } }) });
-  const isSpectrum = (u) => u.pathname === "/api/v1/spectrum";
+  // The history route answers as the live one does: both have no data while a rig starts.
+  const isSpectrum = (u) => u.pathname === "/api/v1/spectrum" || u.pathname === "/api/v1/spectrogram";
   await page.route(isSpectrum, noSpectrum);
   const isEvents = (u) => u.pathname === "/api/v1/alarms/events" && u.searchParams.get("limit") === "50";
   await page.route(isEvents, (r) => r.fulfill({ status: 200, contentType: "application/json", body: JSON.stringify(kFakeEvents) }));
@@ -225,7 +227,15 @@ async function main() {
     alive();
     return (await fetch(base + "/api/v1/spectrum?channel=" + encodeURIComponent(firstChannel) + "&points=64")).ok;
   });
-  console.log(`daemon up on ${base} after ${elapsed()}`);
+  // Some spectrogram history before the page opens, so the page must show it at once.
+  const kHistoryRows = 8;  // about 5 s of the demo's spectra (one per 0.68 s)
+  const historyRows = await pollUntil(`${kHistoryRows} spectrogram rows`, 30_000, async () => {
+    alive();
+    const r = await fetch(base + "/api/v1/spectrogram?channel=" + encodeURIComponent(firstChannel) + "&points=16");
+    const n = r.ok ? (await r.json()).rows.length : 0;
+    return n >= kHistoryRows ? n : null;
+  });
+  console.log(`daemon up on ${base} after ${elapsed()}, ${historyRows} spectrogram rows kept`);
 
   // A fresh profile each run (a persistent context is how the driver takes --user-data-dir).
   profileDir = fs.mkdtempSync(path.join(os.tmpdir(), "tw-chromium-"));
@@ -245,9 +255,30 @@ async function main() {
     if (!r.url().endsWith("/api/v1/stream")) consoleErrors.push(`request failed: ${r.url()} ${r.failure()?.errorText}`);
   });
 
+  const historyAnswers = [];
+  page.on("response", (r) => { if (new URL(r.url()).pathname === "/api/v1/spectrogram") historyAnswers.push(r.status()); });
   const resp = await page.goto(base + "/", { waitUntil: "load" });
   check("page loads", resp && resp.status() === 200 && (await page.title()) === "tonewarden",
     `HTTP ${resp && resp.status()}, title "${await page.title()}"`);
+
+  // The spectrogram opens with the kept history: its first picture already has at least the
+  // rows the daemon held before the page opened (live polling alone adds one per second).
+  // Painted rows are 2 px high; a row counts when a pixel differs from the #222 background.
+  const paintedRows = () => page.$eval("#spectrogram", (c) => {
+    const px = c.getContext("2d").getImageData(0, 0, c.width, c.height).data;
+    let rows = 0;
+    for (let y = 0; y < c.height; y += 2) {
+      for (let x = 0; x < c.width; x += 5) {
+        const o = (y * c.width + x) * 4;
+        if (px[o] !== 34 || px[o + 1] !== 34 || px[o + 2] !== 34) { rows++; break; }
+      }
+    }
+    return rows;
+  });
+  let firstPicture = 0;
+  try { firstPicture = await pollUntil("a painted spectrogram row", 5000, paintedRows, 50); } catch (e) { /* 0 */ }
+  check("spectrogram opens filled with history", firstPicture >= historyRows && historyAnswers[0] === 200,
+    `${firstPicture} rows in the first picture, ${historyRows} kept before load; history answers: ${historyAnswers.join(", ") || "none"}`);
 
   // The spectrum: the peak list fills and the uPlot canvas carries more than one colour.
   let spectrumOk = false, spectrumDetail = "";

@@ -40,6 +40,8 @@ async function refreshSpectrum() {
   const meta = document.getElementById("spectrum-meta");
   const panel = document.getElementById("spectrum-panel"), state = document.getElementById("spectrum-state");
   try {
+    // History first: the spectrum polled next is then as new as its newest row or newer.
+    if (spectrogramView.needHistory || spectrogramView.channel !== ch) await spectrogramView.loadHistory(ch);
     const s = await api.get("/api/v1/spectrum?channel=" + encodeURIComponent(ch) + "&points=4096");
     spectrumView.update(s);
     spectrogramView.push(s);
@@ -257,6 +259,7 @@ function showLink() {
 }
 link.onChange((up) => {
   showLink();
+  if (up) spectrogramView.needHistory = true;  // refill the rows missed while cut off
   if (up) refreshAll();
 });
 

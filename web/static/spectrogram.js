@@ -1,23 +1,31 @@
-// Spectrogram: one row per new live spectrum, newest at the top, level in dB on viridis.
+// Spectrogram: one row per new live spectrum, newest at the top, level in dB on viridis. It
+// opens filled with the daemon's recent history of the channel (GET /api/v1/spectrogram).
 // While no spectrum has arrived (start-up, a rig restart, another channel) the canvas says so
 // instead of staying black; when spectra stop coming, the last rows are dimmed and labelled.
 "use strict";
 const kSpectrogramStaleMs = 5000;  // no new spectrum for this long: the picture is not live
 
+const kSpectrogramRowH = 2;  // pixels per spectrum row
+
 const spectrogramView = {
   canvas: null, ctx: null, state: null, rows: 0, dbLo: -120, dbHi: 0, channel: "",
-  lastT: null, lastNewAt: 0,
+  lastT: null, lastNewAt: 0, needHistory: true,
   init(canvas, stateEl) {
     this.canvas = canvas; this.ctx = canvas.getContext("2d"); this.state = stateEl;
     this.clear("waiting for the first spectrum…");
   },
+  // An empty picture; the next poll fills it again from the daemon's history.
   clear(why) {
+    this.reset();
+    this.needHistory = true;
+    document.getElementById("spectrogram-range").textContent = "";
+    this.show("Waiting for data", why);
+  },
+  reset() {
     this.ctx.fillStyle = "#222";
     this.ctx.fillRect(0, 0, this.canvas.width, this.canvas.height);
     this.rows = 0;
     this.lastT = null;
-    document.getElementById("spectrogram-range").textContent = "";
-    this.show("Waiting for data", why);
   },
   // The overlay: a title and a detail line, or nothing when the picture is live.
   show(title, detail) {
@@ -34,22 +42,50 @@ const spectrogramView = {
     if (this.rows > 0 && Date.now() - this.lastNewAt > kSpectrogramStaleMs)
       this.show("Waiting for data", "no new spectrum since " + fmtTime(this.lastT) + "; the rows below are older");
   },
+  // Fills the picture with the channel's recent spectra kept by the daemon (as many rows as
+  // the canvas shows), replacing what it showed: at page load, after a channel change, a
+  // rig restart or a lost connection. Live rows then continue on top.
+  async loadHistory(channel) {
+    let h;
+    try {
+      h = await api.get("/api/v1/spectrogram?channel=" + encodeURIComponent(channel) +
+        "&rows=" + Math.floor(this.canvas.height / kSpectrogramRowH) + "&points=1024");
+    } catch (e) {
+      // 503: no spectrum yet, the spectrum poll says so and the next one asks again; no
+      // answer: the connection bar says so. Anything else: go on with live rows alone.
+      if (e.status !== 503 && e.status !== 0) this.needHistory = false;
+      return;
+    }
+    this.reset();
+    this.channel = channel;
+    this.needHistory = false;
+    for (const row of h.rows) this.paintRow(row.db.map((v) => (v === null ? -400 : v)));
+    if (!h.rows.length) return;
+    this.lastT = h.rows[h.rows.length - 1].t;
+    this.lastNewAt = Date.now();
+    this.label(h.max_frequency_hz, h.unit);
+    this.show(null);
+  },
   push(s) {
     if (s.channel !== this.channel) { this.channel = s.channel; this.clear("waiting for the first spectrum…"); }
     if (s.t === this.lastT) { this.tick(); return; }  // the same spectrum polled again
     if (this.lastT && Date.parse(s.t) < Date.parse(this.lastT)) this.clear("the rig restarted");
     this.lastT = s.t;
     this.lastNewAt = Date.now();
-    const w = this.canvas.width, h = this.canvas.height, rowH = 2;
-    // Scroll down by one row, then paint the new row at the top.
-    this.ctx.drawImage(this.canvas, 0, 0, w, h - rowH, 0, rowH, w, h - rowH);
     const mags = s.magnitude, n = mags.length;
-    let peak = -400;
     const dbs = new Float32Array(n);
-    for (let i = 0; i < n; i++) {
-      dbs[i] = mags[i] > 0 ? 20 * Math.log10(mags[i]) : -400;
-      if (dbs[i] > peak) peak = dbs[i];
-    }
+    for (let i = 0; i < n; i++) dbs[i] = mags[i] > 0 ? 20 * Math.log10(mags[i]) : -400;
+    this.paintRow(dbs);
+    this.show(null);
+    this.label(s.frequency_hz.length ? s.frequency_hz[s.frequency_hz.length - 1] : 0, s.unit);
+  },
+  // Scrolls the picture down by one row and paints `dbs` (dB re 1 unit, low to high
+  // frequency) across the top.
+  paintRow(dbs) {
+    const w = this.canvas.width, h = this.canvas.height, rowH = kSpectrogramRowH, n = dbs.length;
+    this.ctx.drawImage(this.canvas, 0, 0, w, h - rowH, 0, rowH, w, h - rowH);
+    let peak = -400;
+    for (let i = 0; i < n; i++) if (dbs[i] > peak) peak = dbs[i];
     // The colour range follows the loudest row seen, with 80 dB of range below it.
     this.dbHi = this.rows === 0 ? peak : Math.max(peak, this.dbHi - 0.2);
     this.dbLo = this.dbHi - 80;
@@ -64,9 +100,9 @@ const spectrogramView = {
     }
     this.ctx.putImageData(img, 0, 0);
     this.rows++;
-    this.show(null);
-    const fmax = s.frequency_hz.length ? s.frequency_hz[s.frequency_hz.length - 1] : 0;
+  },
+  label(fmax, unit) {
     document.getElementById("spectrogram-range").textContent =
-      "0 – " + fmtNum(fmax, 0) + " Hz · " + fmtNum(this.dbLo, 0) + " to " + fmtNum(this.dbHi, 0) + " dB re 1 " + s.unit;
+      "0 – " + fmtNum(fmax, 0) + " Hz · " + fmtNum(this.dbLo, 0) + " to " + fmtNum(this.dbHi, 0) + " dB re 1 " + unit;
   },
 };
