@@ -2,6 +2,7 @@
 #include "reload.h"
 
 #include <set>
+#include <utility>
 
 #include "tonewarden/base/log.h"
 #include "tonewarden/config/dump.h"
@@ -76,12 +77,15 @@ bool reload_config(const DaemonOptions& options, config::LoadedConfig& loaded, c
                         monitor.error().message);
         continue;
       }
-      // The pipeline keeps capturing; the new monitor takes over between two blocks.
-      rigs[i].pipeline->swap_observer(rigs[i].monitor.get(), monitor->get());
+      // Operator commands go to the new monitor from here on. The pipeline keeps capturing;
+      // between two blocks the new monitor takes over the old one's alarm states and the
+      // commands still queued there, then the old one goes.
+      std::unique_ptr<pipeline::RigMonitor> old;
       {
         auto guard = web.lock_rigs_for_change();
-        rigs[i].monitor = std::move(monitor).value();
+        old = std::exchange(rigs[i].monitor, std::move(monitor).value());
       }
+      rigs[i].pipeline->swap_observer(old.get(), rigs[i].monitor.get());
       merged.rigs[i] = updated;
       base::log_info("reload: rig '" + name + "' now runs its new targets and rules");
     }

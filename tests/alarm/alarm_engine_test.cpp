@@ -339,6 +339,25 @@ TEST(AlarmEngineCarryOverTest, RaisedLevelsTurnAnActiveAlarmIntoReturnedUnacknow
   EXPECT_EQ(e[0].state, AlarmState::kReturnedUnacknowledged);
 }
 
+TEST(AlarmEngineCarryOverTest, AnAcknowledgementQueuedBeforeTheReloadIsAppliedAfterIt) {
+  EngineHarness before({above_rule(1.0, 2.0), [] {
+                          RuleConfig gone = above_rule(5.0, 6.0);
+                          gone.name = "de.removed";
+                          return gone;
+                        }()});
+  ASSERT_EQ(before.step(1.5, 0).size(), 1u);  // de.bpfo: unacknowledged
+  // Queued, not yet applied (the next evaluate would apply it), then the reload happens.
+  ASSERT_TRUE(before.engine().acknowledge("de.bpfo", "ana", "seen", before.at(0.5)).ok());
+  ASSERT_TRUE(before.engine().acknowledge("de.removed", "ana", "", before.at(0.5)).ok());
+  EngineHarness after({above_rule(1.0, 2.0)});
+  ASSERT_EQ(after.engine().carry_over(before.engine()), 1u);
+  const auto e = after.step(1.5, 1);
+  ASSERT_EQ(e.size(), 1u);  // the acknowledgement, once; the removed rule's command is dropped
+  EXPECT_EQ(e[0].state, AlarmState::kAcknowledged);
+  EXPECT_EQ(e[0].user.view(), "ana");
+  EXPECT_EQ(after.engine().num_commands_rejected(), 0u);
+}
+
 TEST(AlarmEngineCarryOverTest, ARuleOnAnotherReadingOrANewNameStartsNormal) {
   EngineHarness before({above_rule(1.0, 2.0)});
   ASSERT_EQ(before.step(1.5, 0).size(), 1u);

@@ -82,7 +82,7 @@ base::Result<std::unique_ptr<AlarmEngine>> AlarmEngine::create(const AlarmEngine
   return e;
 }
 
-size_t AlarmEngine::carry_over(const AlarmEngine& previous) {
+size_t AlarmEngine::carry_over(AlarmEngine& previous) {
   size_t continued = 0;
   for (size_t i = 0; i < rules_.size(); ++i) {
     Rule& r = rules_[i];
@@ -116,6 +116,15 @@ size_t AlarmEngine::carry_over(const AlarmEngine& previous) {
       s.baseline_spread = r.baseline->spread();
     }
     ++continued;
+  }
+  // An acknowledgement sent just before the reload is not lost with the old engine.
+  const size_t n = previous.queue_->drain_waiting(previous.drained_);
+  for (size_t k = 0; k < n; ++k) {
+    AlarmCommand c = previous.drained_[k];
+    const auto index = rule_index(previous.rules_[c.rule_index].config.name);
+    if (!index) continue;  // the rule is gone
+    c.rule_index = static_cast<uint32_t>(*index);
+    if (!queue_->push(c)) break;  // full: counted as rejected, like any other push
   }
   return continued;
 }

@@ -21,6 +21,15 @@ bool CommandQueue::push(const AlarmCommand& command) noexcept {
 size_t CommandQueue::drain(std::span<AlarmCommand> out) noexcept {
   std::unique_lock<std::mutex> lock(mutex_, std::try_to_lock);
   if (!lock.owns_lock()) return 0;
+  return take(out);
+}
+
+size_t CommandQueue::drain_waiting(std::span<AlarmCommand> out) noexcept {
+  std::lock_guard<std::mutex> lock(mutex_);
+  return take(out);
+}
+
+size_t CommandQueue::take(std::span<AlarmCommand> out) noexcept {
   size_t n = 0;
   while (count_ > 0 && n < out.size()) {
     out[n++] = ring_[head_];

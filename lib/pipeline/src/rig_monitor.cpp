@@ -188,6 +188,12 @@ void RigMonitor::take_over_from(RigObserver& previous) {
   if (!old) return;
   Impl& s = *impl_;
   const size_t kept = s.engine->carry_over(*old->impl_->engine);
+  // Speed settings need a restart, so the running estimate stays valid: keep it.
+  if (s.config.speed_mode == old->impl_->config.speed_mode) {
+    s.tach = old->impl_->tach;
+    s.spectral = old->impl_->spectral;
+    s.speed = old->impl_->speed;
+  }
   if (old->impl_->last_snapshot_ms.size() == s.last_snapshot_ms.size()) {
     s.last_snapshot_ms = old->impl_->last_snapshot_ms;
   }

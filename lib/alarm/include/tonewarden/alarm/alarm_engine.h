@@ -73,8 +73,10 @@ class AlarmEngine {
   // one replaces on a reload). A rule of the same name on the same reading keeps its ISA-18.2
   // state, condition, pending delays, shelf and acknowledgement, and its baseline when the
   // threshold mode and learning period are unchanged; its new levels apply from the next
-  // evaluate(). Other rules start normal. Returns how many rules continued.
-  size_t carry_over(const AlarmEngine& previous);
+  // evaluate(). Other rules start normal. Commands still queued to `previous` (its producers
+  // must have moved to this engine) are queued here, for rules that exist here. Returns how
+  // many rules continued.
+  size_t carry_over(AlarmEngine& previous);
 
   // Analysis thread: installs a stored baseline for a baseline-relative rule.
   base::Status set_baseline(std::string_view rule, double median, double spread);

@@ -36,11 +36,15 @@ class CommandQueue {
   bool push(const AlarmCommand& command) noexcept;
   // Consumer only. Moves up to out.size() commands, oldest first; 0 if the lock is busy.
   size_t drain(std::span<AlarmCommand> out) noexcept;
+  // As drain(), but waits for the lock: for a queue whose producers have moved on (a reload).
+  size_t drain_waiting(std::span<AlarmCommand> out) noexcept;
 
   size_t capacity() const noexcept { return ring_.size(); }
   uint64_t num_rejected() const noexcept;
 
  private:
+  size_t take(std::span<AlarmCommand> out) noexcept;  // with mutex_ held
+
   mutable std::mutex mutex_;
   std::vector<AlarmCommand> ring_;
   size_t head_ = 0;   // oldest

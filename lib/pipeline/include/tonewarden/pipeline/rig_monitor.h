@@ -65,8 +65,9 @@ class RigMonitor : public RigObserver {
                 base::WallTimeMs t_first, bool discontinuity) override;
   void on_period(size_t channel, const ChannelPeriod& period, base::WallTimeMs t_end,
                  RigLive& live) override;
-  // On a reload: alarms of unchanged name and reading keep their state (see
-  // AlarmEngine::carry_over), so an acknowledged alarm does not raise again; snapshot timing too.
+  // On a reload: alarms of unchanged name and reading keep their state and pending commands
+  // (see AlarmEngine::carry_over), so an acknowledged alarm does not raise again; the speed
+  // estimate and snapshot timing continue too.
   void take_over_from(RigObserver& previous) override;
 
   // Thread-safe operator commands (queued for the analysis thread).
