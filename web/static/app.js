@@ -40,11 +40,15 @@ async function refreshSpectrum() {
   const meta = document.getElementById("spectrum-meta");
   const panel = document.getElementById("spectrum-panel"), state = document.getElementById("spectrum-state");
   try {
-    // History first: the spectrum polled next is then as new as its newest row or newer.
-    if (spectrogramView.needHistory || spectrogramView.channel !== ch) await spectrogramView.loadHistory(ch);
-    const s = await api.get("/api/v1/spectrum?channel=" + encodeURIComponent(ch) + "&points=4096");
+    // The spectrogram's history, when it needs it, loads beside the spectrum; the spectrum
+    // joins the spectrogram once the history is painted, if it is newer than its last row.
+    const history = spectrogramView.needHistory || spectrogramView.channel !== ch ? spectrogramView.loadHistory(ch) : null;
+    const s = await api.get("/api/v1/spectrum?channel=" + encodeURIComponent(ch) + "&points=4096")
+      .catch(async (e) => { await history; throw e; });
     spectrumView.update(s);
-    spectrogramView.push(s);
+    await history;
+    const older = history && spectrogramView.lastT && Date.parse(s.t) < Date.parse(spectrogramView.lastT);
+    if (older) spectrogramView.tick(); else spectrogramView.push(s);
     const stale = spectrogramView.lastT === s.t && Date.now() - spectrogramView.lastNewAt > kSpectrogramStaleMs;
     panel.classList.toggle("stale", stale);
     showState(state, stale ? "Waiting for data" : null, "no new spectrum since " + fmtTime(s.t));

@@ -9,7 +9,7 @@ const kSpectrogramRowH = 2;  // pixels per spectrum row
 
 const spectrogramView = {
   canvas: null, ctx: null, state: null, rows: 0, dbLo: -120, dbHi: 0, channel: "",
-  lastT: null, lastNewAt: 0, needHistory: true,
+  lastT: null, lastNewAt: 0, needHistory: true, loading: null,
   init(canvas, stateEl) {
     this.canvas = canvas; this.ctx = canvas.getContext("2d"); this.state = stateEl;
     this.clear("waiting for the first spectrum…");
@@ -44,12 +44,16 @@ const spectrogramView = {
   },
   // Fills the picture with the channel's recent spectra kept by the daemon (as many rows as
   // the canvas shows), replacing what it showed: at page load, after a channel change, a
-  // rig restart or a lost connection. Live rows then continue on top.
-  async loadHistory(channel) {
+  // rig restart or a lost connection. Live rows then continue on top. One load at a time.
+  loadHistory(channel) {
+    if (!this.loading) this.loading = this.fetchHistory(channel).finally(() => { this.loading = null; });
+    return this.loading;
+  },
+  async fetchHistory(channel) {
+    const shown = Math.floor(this.canvas.height / kSpectrogramRowH);
     let h;
     try {
-      h = await api.get("/api/v1/spectrogram?channel=" + encodeURIComponent(channel) +
-        "&rows=" + Math.floor(this.canvas.height / kSpectrogramRowH) + "&points=1024");
+      h = await api.get("/api/v1/spectrogram?channel=" + encodeURIComponent(channel) + "&rows=" + shown + "&points=1024");
     } catch (e) {
       // 503: no spectrum yet, the spectrum poll says so and the next one asks again; no
       // answer: the connection bar says so. Anything else: go on with live rows alone.
@@ -59,9 +63,15 @@ const spectrogramView = {
     this.reset();
     this.channel = channel;
     this.needHistory = false;
-    for (const row of h.rows) this.paintRow(row.db.map((v) => (v === null ? -400 : v)));
-    if (!h.rows.length) return;
-    this.lastT = h.rows[h.rows.length - 1].t;
+    const n = h.rows.length;
+    if (!n) return;
+    // All rows in one image, newest at the top; colours as if they had come one by one.
+    const img = this.ctx.createImageData(this.canvas.width, n * kSpectrogramRowH);
+    h.rows.forEach((row, k) => {
+      this.paintRowInto(img, (n - 1 - k) * kSpectrogramRowH, row.db.map((v) => (v === null ? -400 : v)));
+    });
+    this.ctx.putImageData(img, 0, 0);
+    this.lastT = h.rows[n - 1].t;
     this.lastNewAt = Date.now();
     this.label(h.max_frequency_hz, h.unit);
     this.show(null);
@@ -79,26 +89,30 @@ const spectrogramView = {
     this.show(null);
     this.label(s.frequency_hz.length ? s.frequency_hz[s.frequency_hz.length - 1] : 0, s.unit);
   },
-  // Scrolls the picture down by one row and paints `dbs` (dB re 1 unit, low to high
-  // frequency) across the top.
+  // Scrolls the picture down by one row and paints `dbs` across the top.
   paintRow(dbs) {
-    const w = this.canvas.width, h = this.canvas.height, rowH = kSpectrogramRowH, n = dbs.length;
+    const w = this.canvas.width, h = this.canvas.height, rowH = kSpectrogramRowH;
     this.ctx.drawImage(this.canvas, 0, 0, w, h - rowH, 0, rowH, w, h - rowH);
+    const img = this.ctx.createImageData(w, rowH);
+    this.paintRowInto(img, 0, dbs);
+    this.ctx.putImageData(img, 0, 0);
+  },
+  // Writes one row of `dbs` (dB re 1 unit, low to high frequency) into `img` at pixel row y,
+  // after moving the colour range: it follows the loudest row seen, with 80 dB below it.
+  paintRowInto(img, y0, dbs) {
+    const w = img.width, n = dbs.length;
     let peak = -400;
     for (let i = 0; i < n; i++) if (dbs[i] > peak) peak = dbs[i];
-    // The colour range follows the loudest row seen, with 80 dB of range below it.
     this.dbHi = this.rows === 0 ? peak : Math.max(peak, this.dbHi - 0.2);
     this.dbLo = this.dbHi - 80;
-    const img = this.ctx.createImageData(w, rowH);
     for (let x = 0; x < w; x++) {
       const i = Math.min(n - 1, Math.floor(x * n / w));
       const [r, g, b] = viridis((dbs[i] - this.dbLo) / (this.dbHi - this.dbLo));
-      for (let y = 0; y < rowH; y++) {
+      for (let y = y0; y < y0 + kSpectrogramRowH; y++) {
         const o = (y * w + x) * 4;
         img.data[o] = r; img.data[o + 1] = g; img.data[o + 2] = b; img.data[o + 3] = 255;
       }
     }
-    this.ctx.putImageData(img, 0, 0);
     this.rows++;
   },
   label(fmax, unit) {
