@@ -229,3 +229,29 @@ TEST_F(ApiTest, HeadOnGetRouteHasNoBody) {
 
 }  // namespace
 }  // namespace tonewarden::http::fixture
+
+namespace tonewarden::http::fixture {
+namespace {
+
+// A browser offers "gzip, deflate, br"; the answer comes gzip-compressed (brotli is taken out:
+// the library's brotli setting costs tens of times gzip's CPU per poll).
+TEST_F(HttpServerTest, BrowsersGetGzipEvenWhenTheyOfferBrotli) {
+  client->set_decompress(false);
+  for (const char* offer : {"gzip, deflate, br", "br;q=1.0, gzip;q=0.8", "Br , gzip"}) {
+    auto r = client->Get("/api/v1/openapi.json", {{"Accept-Encoding", offer}});
+    ASSERT_TRUE(r) << offer;
+    EXPECT_EQ(r->status, 200) << offer;
+    EXPECT_EQ(r->get_header_value("Content-Encoding"), "gzip") << offer;
+    ASSERT_GE(r->body.size(), 2u);
+    EXPECT_EQ(static_cast<unsigned char>(r->body[0]), 0x1f) << offer;  // gzip magic (RFC 1952)
+    EXPECT_EQ(static_cast<unsigned char>(r->body[1]), 0x8b) << offer;
+  }
+  // Brotli alone: sent as it is, not compressed.
+  auto plain = client->Get("/api/v1/openapi.json", {{"Accept-Encoding", "br"}});
+  ASSERT_TRUE(plain);
+  EXPECT_EQ(plain->get_header_value("Content-Encoding"), "");
+  EXPECT_EQ(plain->body.front(), '{');
+}
+
+}  // namespace
+}  // namespace tonewarden::http::fixture
