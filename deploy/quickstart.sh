@@ -16,8 +16,8 @@ tonewarden demo: the synthetic Bay 4 pump rig (invented scenario)
   JSON API   http://${listen}/api/v1/status   (all routes: /api/v1/openapi.json)
   metrics    http://${listen}/metrics
   data       ${data_dir}/ (SQLite history, FFT wisdom, the API token for changes)
-The outer-race defect on the motor bearing starts growing about a minute in; its alarm fires
-within about two minutes. Caution: tonewarden is a monitoring aid, not a protection or
+The story runs 60 times faster than the clock: the outer-race defect on the motor bearing starts
+growing a second in, and its alarm fires about half a minute in. Caution: tonewarden is a monitoring aid, not a protection or
 shutdown system. Press Ctrl-C to stop.
 
 MSG
