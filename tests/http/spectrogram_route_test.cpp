@@ -73,8 +73,8 @@ TEST_F(SpectrogramRouteTest, BadParametersAre400NamingThem) {
   EXPECT_EQ(fakes.live.last_max_rows, 0u);
 }
 
-TEST_F(SpectrogramRouteTest, UnconfiguredChannelIs404) {
-  const json e = error_of(get("/api/v1/spectrogram?channel=nope"), 404);
+TEST_F(SpectrogramRouteTest, UnconfiguredChannelIsABadParameterLikeOnTheOtherLiveRoutes) {
+  const json e = error_of(get("/api/v1/spectrogram?channel=nope"), 400);
   EXPECT_EQ(e["code"], "unknown_channel");
   EXPECT_EQ(e["parameter"], "channel");
 }

@@ -13,11 +13,11 @@ namespace {
 
 ConfigView config_of(Ctx& c) { return need(c.state.providers.status, "status").config(); }
 
-// `status`: 400 where the channel filters or shapes a request, 404 where it names the resource.
-void check_channel(const ConfigView& cfg, const std::string& channel, int status = 400) {
+// A channel named in a query parameter: an unknown one is a bad parameter (400), on every route.
+void check_channel(const ConfigView& cfg, const std::string& channel) {
   for (const auto& ch : cfg.channels)
     if (ch.id == channel) return;
-  throw ApiError(status, "unknown_channel", "no channel '" + channel + "' is configured",
+  throw ApiError(400, "unknown_channel", "no channel '" + channel + "' is configured",
                  "channel");
 }
 
@@ -92,7 +92,7 @@ void get_spectrogram(Ctx& c) {
   const std::string channel = *c.text("channel");
   const auto rows = static_cast<size_t>(c.integer("rows", kDefaultSpectrogramRows));
   const auto points = static_cast<size_t>(c.integer("points", kDefaultSpectrogramPoints));
-  check_channel(config_of(c), channel, 404);
+  check_channel(config_of(c), channel);
   auto got = need(c.state.providers.live, "live").spectrogram(channel, rows);
   if (!got) throw_no_data(c, got.error(), "spectrogram", channel);
   const Spectrogram& g = *got;
@@ -229,7 +229,7 @@ void add_api_routes(std::vector<Route>& routes) {
                 int_param("points", kMinSpectrogramPoints, kMaxSpectrogramPoints,
                           kDefaultSpectrogramPoints, "points per row (buckets of bins)")};
     r.success_schema = "Spectrogram";
-    r.errors = {404, 503};
+    r.errors = {503};
     r.handler = get_spectrogram;
     routes.push_back(std::move(r));
   }
