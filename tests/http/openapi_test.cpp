@@ -55,7 +55,7 @@ TEST_F(OpenApiTest, ParametersBodiesAndErrorsAreDocumented) {
             (std::set<std::string>{"from", "to", "limit", "state", "rule"}));
   EXPECT_EQ(names("/api/v1/spectrum", "get"), (std::set<std::string>{"channel", "points"}));
   EXPECT_EQ(names("/api/v1/spectrogram", "get"),
-            (std::set<std::string>{"channel", "rows", "points"}));
+            (std::set<std::string>{"channel", "rows", "points", "since"}));
   for (const char* status : {"400", "503"})
     EXPECT_TRUE(doc["paths"]["/api/v1/spectrogram"]["get"]["responses"].contains(status)) << status;
   EXPECT_EQ(names("/api/v1/snapshots/{id}", "get"), (std::set<std::string>{"id", "points"}));

@@ -1,6 +1,7 @@
 // Focus: GET /api/v1/spectrogram answers the fake's history (shape, order, frequency axis,
-// max-pooling to fewer points), refuses bad parameters with the JSON error shape, names an
-// unconfigured channel with 404 and says 503 before the channel's first spectrum.
+// max-pooling to fewer points), keeps only rows newer than ?since=, refuses bad parameters with
+// the JSON error shape, names an unconfigured channel with 404 and says 503 before the
+// channel's first spectrum.
 #include "http_fixture.h"
 
 namespace tonewarden::http::fixture {
@@ -53,6 +54,31 @@ TEST_F(SpectrogramRouteTest, MorePointsThanKeptReturnsWhatIsKept) {
   EXPECT_EQ(j["rows"][0]["db"].size(), 12u);
 }
 
+TEST_F(SpectrogramRouteTest, SinceKeepsOnlyNewerRowsStillBoundedByRows) {
+  // The fake's rows are at kT0Ms + 0, 1000 and 2000 ms (2026-12-02T00:00:00/01/02Z).
+  // since = the first row's time (RFC 3339): the two after it, exclusive of since itself.
+  json j = body_of(get(std::string(kRoute) + "&since=2026-12-02T00:00:00Z"));
+  ASSERT_EQ(j["rows"].size(), 2u);
+  EXPECT_EQ(j["rows"][0]["t"], "2026-12-02T00:00:01.000Z");
+  EXPECT_EQ(j["rows"][1]["t"], "2026-12-02T00:00:02.000Z");
+  // Unix ms half-way between the first two rows: still the same two.
+  j = body_of(get(std::string(kRoute) + "&since=" + std::to_string(kT0Ms + 500)));
+  ASSERT_EQ(j["rows"].size(), 2u);
+  EXPECT_EQ(j["rows"][0]["t"], "2026-12-02T00:00:01.000Z");
+  // rows=1 bounds them to the newest one.
+  j = body_of(get(std::string(kRoute) + "&rows=1&since=2026-12-02T00:00:00Z"));
+  ASSERT_EQ(j["rows"].size(), 1u);
+  EXPECT_EQ(j["rows"][0]["t"], "2026-12-02T00:00:02.000Z");
+  // since = the newest row: nothing newer yet is an empty list (200), with the axis still there.
+  const auto r = get(std::string(kRoute) + "&since=2026-12-02T00:00:02.000Z");
+  j = body_of(r);
+  EXPECT_EQ(j["rows"], json::array());
+  EXPECT_EQ(j["frequency_hz"].size(), 12u);
+  // A since before all rows returns all three.
+  j = body_of(get(std::string(kRoute) + "&since=2026-12-01T23:59:59Z"));
+  EXPECT_EQ(j["rows"].size(), 3u);
+}
+
 TEST_F(SpectrogramRouteTest, BadParametersAre400NamingThem) {
   auto expect_param = [](const json& e, const std::string& code, const std::string& parameter) {
     EXPECT_EQ(e.value("code", ""), code) << e.dump();
@@ -67,6 +93,9 @@ TEST_F(SpectrogramRouteTest, BadParametersAre400NamingThem) {
   expect_param(error_of(get(std::string(kRoute) + "&points=1"), 400), "out_of_range", "points");
   expect_param(error_of(get(std::string(kRoute) + "&points=1025"), 400), "out_of_range", "points");
   expect_param(error_of(get(std::string(kRoute) + "&pionts=8"), 400), "unknown_parameter", "pionts");
+  expect_param(error_of(get(std::string(kRoute) + "&since=yesterday"), 400), "bad_time", "since");
+  expect_param(error_of(get(std::string(kRoute) + "&since=2026-13-02T00:00:00Z"), 400), "bad_time",
+               "since");
   expect_param(error_of(get(std::string(kRoute) + "&channel=pump_de"), 400), "bad_parameter",
                "channel");
   // The provider is never asked for a refused request.

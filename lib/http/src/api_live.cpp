@@ -2,6 +2,7 @@
 #include <algorithm>
 #include <charconv>
 #include <cmath>
+#include <limits>
 #include <set>
 
 #include "route.h"
@@ -92,6 +93,7 @@ void get_spectrogram(Ctx& c) {
   const std::string channel = *c.text("channel");
   const auto rows = static_cast<size_t>(c.integer("rows", kDefaultSpectrogramRows));
   const auto points = static_cast<size_t>(c.integer("points", kDefaultSpectrogramPoints));
+  const WallTimeMs since = c.time("since", WallTimeMs{std::numeric_limits<int64_t>::min()});
   check_channel(config_of(c), channel);
   auto got = need(c.state.providers.live, "live").spectrogram(channel, rows);
   if (!got) throw_no_data(c, got.error(), "spectrogram", channel);
@@ -103,7 +105,10 @@ void get_spectrogram(Ctx& c) {
   const size_t p = std::min(points, m);
   Json freqs = Json::array(), list = Json::array();
   for (size_t j = 0; j < p; ++j) freqs.push_back(g.frequency_hz[j * m / p]);
+  // Times strictly increase, so the newest `rows` after `since` are among the newest `rows`;
+  // none newer is an empty list, not a 503: a client following the history just waits.
   for (const SpectrogramRow& row : g.rows) {
+    if (row.t <= since) continue;
     Json dbs = Json::array();
     if (p < m) {
       for (float v : decimate_max(row.db, 1.0, p).magnitude) dbs.push_back(db_json(v));
@@ -227,7 +232,9 @@ void add_api_routes(std::vector<Route>& routes) {
                 int_param("rows", 1, kMaxSpectrogramRows, kDefaultSpectrogramRows,
                           "newest rows returned (fewer while the history is shorter)"),
                 int_param("points", kMinSpectrogramPoints, kMaxSpectrogramPoints,
-                          kDefaultSpectrogramPoints, "points per row (buckets of bins)")};
+                          kDefaultSpectrogramPoints, "points per row (buckets of bins)"),
+                time_param("since", "only rows newer than this, exclusive (to follow the "
+                                    "history); default all")};
     r.success_schema = "Spectrogram";
     r.errors = {503};
     r.handler = get_spectrogram;
