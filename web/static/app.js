@@ -40,15 +40,22 @@ async function refreshSpectrum() {
   const meta = document.getElementById("spectrum-meta");
   const panel = document.getElementById("spectrum-panel"), state = document.getElementById("spectrum-state");
   try {
-    // The spectrogram's history, when it needs it, loads beside the spectrum; the spectrum
-    // joins the spectrogram once the history is painted, if it is newer than its last row.
-    const history = spectrogramView.needHistory || spectrogramView.channel !== ch ? spectrogramView.loadHistory(ch) : null;
+    // The spectrogram loads its history, when it needs it, or the rows newer than its last one
+    // beside the spectrum. For a channel without history the spectrum joins the spectrogram
+    // once the history request is done, if it is newer than its last row.
+    const before = spectrogramView.lastT;
+    const load = spectrogramView.needHistory || spectrogramView.channel !== ch;
+    const rows = load ? spectrogramView.loadHistory(ch) : spectrogramView.follow(ch);
     const s = await api.get("/api/v1/spectrum?channel=" + encodeURIComponent(ch) + "&points=4096")
-      .catch(async (e) => { await history; throw e; });
+      .catch(async (e) => { await rows; throw e; });
     spectrumView.update(s);
-    await history;
-    const older = history && spectrogramView.lastT && Date.parse(s.t) < Date.parse(spectrogramView.lastT);
-    if (older) spectrogramView.tick(); else spectrogramView.push(s);
+    await rows;
+    if (!spectrogramView.hasHistory) {
+      const older = load && spectrogramView.lastT && Date.parse(s.t) < Date.parse(spectrogramView.lastT);
+      if (older) spectrogramView.tick(); else spectrogramView.push(s);
+    } else if (!load && before && Date.parse(s.t) < Date.parse(before)) {
+      spectrogramView.clear("the rig restarted");  // spectrum time went back: a new run
+    }
     const stale = spectrogramView.lastT === s.t && Date.now() - spectrogramView.lastNewAt > kSpectrogramStaleMs;
     panel.classList.toggle("stale", stale);
     showState(state, stale ? "Waiting for data" : null, "no new spectrum since " + fmtTime(s.t));

@@ -1,15 +1,19 @@
 // Spectrogram: one row per new live spectrum, newest at the top, level in dB on viridis. It
-// opens filled with the daemon's recent history of the channel (GET /api/v1/spectrogram).
+// opens filled with the daemon's recent history of the channel (GET /api/v1/spectrogram) and
+// then follows that history (?since= the newest row shown), so every spectrum gets a row and
+// live rows are max-pooled to the same points as the history.
 // While no spectrum has arrived (start-up, a rig restart, another channel) the canvas says so
 // instead of staying black; when spectra stop coming, the last rows are dimmed and labelled.
 "use strict";
 const kSpectrogramStaleMs = 5000;  // no new spectrum for this long: the picture is not live
 
 const kSpectrogramRowH = 2;  // pixels per spectrum row
+const kSpectrogramPoints = 1024;  // points per row asked of the daemon, history and live alike
 
 const spectrogramView = {
   canvas: null, ctx: null, state: null, rows: 0, dbLo: -120, dbHi: 0, channel: "",
   lastT: null, lastNewAt: 0, needHistory: true, loading: null,
+  hasHistory: false,  // the last answer of the spectrogram route had rows for the channel
   init(canvas, stateEl) {
     this.canvas = canvas; this.ctx = canvas.getContext("2d"); this.state = stateEl;
     this.clear("waiting for the first spectrum…");
@@ -49,20 +53,32 @@ const spectrogramView = {
     if (!this.loading) this.loading = this.fetchHistory(channel).finally(() => { this.loading = null; });
     return this.loading;
   },
-  async fetchHistory(channel) {
+  // Appends the rows the daemon kept after the newest one shown; shares the one request in
+  // flight with loadHistory. Without an answer with rows (hasHistory false) the caller adds
+  // the spectrum it polled instead.
+  follow(channel) {
+    if (!this.loading) this.loading = this.fetchNewer(channel).finally(() => { this.loading = null; });
+    return this.loading;
+  },
+  historyUrl(channel) {
     const shown = Math.floor(this.canvas.height / kSpectrogramRowH);
+    return "/api/v1/spectrogram?channel=" + encodeURIComponent(channel) + "&rows=" + shown + "&points=" + kSpectrogramPoints;
+  },
+  async fetchHistory(channel) {
     let h;
     try {
-      h = await api.get("/api/v1/spectrogram?channel=" + encodeURIComponent(channel) + "&rows=" + shown + "&points=1024");
+      h = await api.get(this.historyUrl(channel));
     } catch (e) {
       // 503: no spectrum yet, the spectrum poll says so and the next one asks again; no
       // answer: the connection bar says so. Anything else: go on with live rows alone.
       if (e.status !== 503 && e.status !== 0) this.needHistory = false;
+      if (e.status !== 0) this.hasHistory = false;
       return;
     }
     this.reset();
     this.channel = channel;
     this.needHistory = false;
+    this.hasHistory = true;
     const n = h.rows.length;
     if (!n) return;
     // All rows in one image, newest at the top; colours as if they had come one by one.
@@ -76,6 +92,26 @@ const spectrogramView = {
     this.label(h.max_frequency_hz, h.unit);
     this.show(null);
   },
+  async fetchNewer(channel) {
+    if (!this.lastT) { this.hasHistory = false; return; }
+    let h;
+    try {
+      h = await api.get(this.historyUrl(channel) + "&since=" + encodeURIComponent(this.lastT));
+    } catch (e) {
+      if (e.status !== 0) this.hasHistory = false;
+      return;
+    }
+    this.hasHistory = true;
+    const last = Date.parse(this.lastT);
+    const rows = h.rows.filter((row) => Date.parse(row.t) > last);
+    if (!rows.length) { this.tick(); return; }
+    this.paintRows(rows.map((row) => row.db.map((v) => (v === null ? -400 : v))));
+    this.lastT = rows[rows.length - 1].t;
+    this.lastNewAt = Date.now();
+    this.show(null);
+    this.label(h.max_frequency_hz, h.unit);
+  },
+  // A row from a polled spectrum, for a channel the daemon keeps no history of.
   push(s) {
     if (s.channel !== this.channel) { this.channel = s.channel; this.clear("waiting for the first spectrum…"); }
     if (s.t === this.lastT) { this.tick(); return; }  // the same spectrum polled again
@@ -85,16 +121,18 @@ const spectrogramView = {
     const mags = s.magnitude, n = mags.length;
     const dbs = new Float32Array(n);
     for (let i = 0; i < n; i++) dbs[i] = mags[i] > 0 ? 20 * Math.log10(mags[i]) : -400;
-    this.paintRow(dbs);
+    this.paintRows([dbs]);
     this.show(null);
     this.label(s.frequency_hz.length ? s.frequency_hz[s.frequency_hz.length - 1] : 0, s.unit);
   },
-  // Scrolls the picture down by one row and paints `dbs` across the top.
-  paintRow(dbs) {
+  // Scrolls the picture down once by the rows in `list` (oldest first, each an array of dB)
+  // and paints them across the top, newest at the top.
+  paintRows(list) {
     const w = this.canvas.width, h = this.canvas.height, rowH = kSpectrogramRowH;
-    this.ctx.drawImage(this.canvas, 0, 0, w, h - rowH, 0, rowH, w, h - rowH);
-    const img = this.ctx.createImageData(w, rowH);
-    this.paintRowInto(img, 0, dbs);
+    const n = Math.min(list.length, Math.floor(h / rowH)), dy = n * rowH;
+    if (dy < h) this.ctx.drawImage(this.canvas, 0, 0, w, h - dy, 0, dy, w, h - dy);
+    const img = this.ctx.createImageData(w, dy);
+    list.slice(list.length - n).forEach((dbs, k) => this.paintRowInto(img, (n - 1 - k) * rowH, dbs));
     this.ctx.putImageData(img, 0, 0);
   },
   // Writes one row of `dbs` (dB re 1 unit, low to high frequency) into `img` at pixel row y,
