@@ -7,37 +7,19 @@
 #include <utility>
 #include <vector>
 
+#include "one_rig_text.h"
 #include "tonewarden/config/loader.h"
 #include "tonewarden/config/option_table.h"
 
 namespace tonewarden::config {
 namespace {
 
-// One synthetic rig on lines 1-13; callers append from line 14 on.
-constexpr const char* kRig = R"([[rig]]
-name = "r1"
-
-[rig.source]
-kind = "synthetic"
-
-[[rig.channel]]
-name = "ch0"
-index = 0
-sensitivity_v_per_unit = 0.1
-
-[rig.speed]
-rpm = 1500
-)";
+using testing::kOneRig;
+using testing::messages;
 
 // `window = "NAME"` on line 16; its value starts at column 10.
 LoadedConfig with_window(const std::string& name) {
-  return load_config_text(std::string(kRig) + "\n[rig.analysis]\nwindow = \"" + name + "\"\n", "w.toml");
-}
-
-std::vector<std::string> messages(const LoadedConfig& loaded) {
-  std::vector<std::string> out;
-  for (const auto& issue : loaded.issues) out.push_back(format_issue(issue));
-  return out;
+  return load_config_text(std::string(kOneRig) + "\n[rig.analysis]\nwindow = \"" + name + "\"\n", "w.toml");
 }
 
 struct Named {
@@ -78,7 +60,7 @@ TEST(ConfigWindowTest, OptionHelpNamesEveryWindow) {
 
 TEST(ConfigWindowTest, DefaultIsHannWithNoBeta) {
   // Expected: the table default "hann" (option_table.cpp); beta stays 0 for a non-Kaiser window.
-  const LoadedConfig loaded = load_config_text(kRig, "d.toml");
+  const LoadedConfig loaded = load_config_text(kOneRig, "d.toml");
   ASSERT_TRUE(loaded.ok()) << ::testing::PrintToString(messages(loaded));
   EXPECT_EQ(loaded.config.rigs[0].analysis.window, WindowKind::kHann);
   EXPECT_EQ(loaded.config.rigs[0].analysis.kaiser_beta, 0.0);
@@ -139,7 +121,7 @@ TEST(ConfigWindowTest, WrongTypeIsOneTypeError) {
   // Expected: a number is not a window (or average) name: one type error at each value, and no
   // second "unknown window" / "invalid average" message for the same key.
   const LoadedConfig loaded =
-      load_config_text(std::string(kRig) + "\n[rig.analysis]\nwindow = 4\naverage = 2\n", "w.toml");
+      load_config_text(std::string(kOneRig) + "\n[rig.analysis]\nwindow = 4\naverage = 2\n", "w.toml");
   EXPECT_EQ(messages(loaded),
             (std::vector<std::string>{
                 "w.toml:16:10: rig[r1].analysis.window: expected string, got integer (allowed: string)",

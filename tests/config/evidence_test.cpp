@@ -5,6 +5,7 @@
 #include <string>
 #include <vector>
 
+#include "one_rig_text.h"
 #include "tonewarden/config/dump.h"
 #include "tonewarden/config/loader.h"
 #include "tonewarden/config/option_table.h"
@@ -12,36 +13,17 @@
 namespace tonewarden::config {
 namespace {
 
-// One synthetic rig on lines 1-13; callers append from line 14 on.
-constexpr const char* kRig = R"([[rig]]
-name = "r1"
-
-[rig.source]
-kind = "synthetic"
-
-[[rig.channel]]
-name = "ch0"
-index = 0
-sensitivity_v_per_unit = 0.1
-
-[rig.speed]
-rpm = 1500
-)";
+using testing::kOneRig;
+using testing::messages;
 
 // The [evidence] header on line 15, the given lines from line 16 on.
 LoadedConfig with_evidence(const std::string& lines) {
-  return load_config_text(std::string(kRig) + "\n[evidence]\n" + lines, "e.toml");
-}
-
-std::vector<std::string> messages(const LoadedConfig& loaded) {
-  std::vector<std::string> out;
-  for (const auto& issue : loaded.issues) out.push_back(format_issue(issue));
-  return out;
+  return load_config_text(std::string(kOneRig) + "\n[evidence]\n" + lines, "e.toml");
 }
 
 TEST(ConfigEvidenceTest, DefaultsWhenTheSectionIsLeftOut) {
   // Expected: the defaults in option_table.cpp: on, 10 s before, 10 s after, 2048 MB, 60 s.
-  const LoadedConfig loaded = load_config_text(kRig, "d.toml");
+  const LoadedConfig loaded = load_config_text(kOneRig, "d.toml");
   ASSERT_TRUE(loaded.ok()) << ::testing::PrintToString(messages(loaded));
   const EvidenceConfig& e = loaded.config.evidence;
   EXPECT_TRUE(e.enabled);
@@ -110,7 +92,7 @@ TEST(ConfigEvidenceTest, KeysNeedARestartAndAppearInTheDump) {
   // as "needs a restart" in the reload diff; the dump carries the section with its defaults.
   for (const OptionSpec* o : options_of("evidence")) EXPECT_FALSE(o->reloadable) << o->path();
   EXPECT_EQ(options_of("evidence").size(), 5u);
-  const LoadedConfig before = load_config_text(kRig, "a.toml");
+  const LoadedConfig before = load_config_text(kOneRig, "a.toml");
   const LoadedConfig after = with_evidence("pre_s = 30\n");
   ASSERT_TRUE(before.ok());
   ASSERT_TRUE(after.ok());

@@ -5,32 +5,18 @@
 #include <string>
 #include <vector>
 
+#include "one_rig_text.h"
 #include "tonewarden/config/loader.h"
 
 namespace tonewarden::config {
 namespace {
 
-// One synthetic rig on lines 1-13, a blank line, [notify.mqtt] on line 15, then the given lines.
-constexpr const char* kRig = R"([[rig]]
-name = "r1"
+using testing::kOneRig;
+using testing::messages;
 
-[rig.source]
-kind = "synthetic"
-
-[[rig.channel]]
-name = "ch0"
-index = 0
-sensitivity_v_per_unit = 0.1
-
-[rig.speed]
-rpm = 1500
-)";
-
+// [notify.mqtt] on line 15, the given lines from line 16 on.
 std::vector<std::string> mqtt_messages(const std::string& lines) {
-  const LoadedConfig loaded = load_config_text(std::string(kRig) + "\n[notify.mqtt]\n" + lines, "m.toml");
-  std::vector<std::string> out;
-  for (const auto& issue : loaded.issues) out.push_back(format_issue(issue));
-  return out;
+  return messages(load_config_text(std::string(kOneRig) + "\n[notify.mqtt]\n" + lines, "m.toml"));
 }
 
 TEST(ConfigMqttCheckTest, WildcardsAndReservedPrefixesAreRefusedAtTheirValue) {
