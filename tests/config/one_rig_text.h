@@ -8,7 +8,7 @@
 
 #include "tonewarden/config/loader.h"
 
-namespace tonewarden::config::testing {
+namespace tonewarden::testing {
 
 inline constexpr const char* kOneRig = R"([[rig]]
 name = "r1"
@@ -26,10 +26,10 @@ rpm = 1500
 )";
 
 // Every issue as FILE:LINE:COL: KEY: MESSAGE (allowed: ...), in order.
-inline std::vector<std::string> messages(const LoadedConfig& loaded) {
+inline std::vector<std::string> messages(const config::LoadedConfig& loaded) {
   std::vector<std::string> out;
   for (const auto& issue : loaded.issues) out.push_back(format_issue(issue));
   return out;
 }
 
-}  // namespace tonewarden::config::testing
+}  // namespace tonewarden::testing

@@ -12,11 +12,14 @@
 #include <nlohmann/json.hpp>
 
 #include "notify/mqtt_test_broker.h"
+#include "notify/sample_event.h"
 #include "support/subprocess.h"
 #include "support/temp_dir.h"
 
 namespace tonewarden::notify {
 namespace {
+
+using testing::sample_event;
 
 using namespace std::chrono_literals;
 using testing::eventually;
@@ -28,22 +31,6 @@ using testing::TempDir;
 constexpr char kAlarmTopic[] = "tw-test/site1/bay4/alarm";
 constexpr char kReadingTopic[] = "tw-test/site1/bay4/reading";
 constexpr char kStatusTopic[] = "tw-test/site1/bay4/status";
-
-NotifyEvent sample_event(const std::string& rule = "de-bpfo") {
-  NotifyEvent e;
-  e.t = base::WallTimeMs{1'000'000'000'000};  // `date -u -d @1000000000`: 2001-09-09 01:46:40 UTC
-  e.rig = "bay4";
-  e.rule = rule;
-  e.reading = "motor-de.bpfo.amplitude";
-  e.channel = "motor-de";
-  e.severity = "critical";
-  e.state = "unacknowledged";
-  e.previous_state = "normal";
-  e.cause = "condition";
-  e.value = 0.25;
-  e.threshold = 0.2;
-  return e;
-}
 
 MqttConfig config_for(int port) {
   MqttConfig c;

@@ -13,26 +13,14 @@
 #include <mutex>
 #include <thread>
 
+#include "notify/sample_event.h"
+
 namespace tonewarden::notify {
 namespace {
 
-using namespace std::chrono_literals;
+using testing::sample_event;
 
-NotifyEvent sample_event(const std::string& severity = "critical") {
-  NotifyEvent e;
-  e.t = base::WallTimeMs{1'000'000'000'000};
-  e.rig = "bay4";
-  e.rule = "de-bpfo";
-  e.reading = "motor-de.bpfo.amplitude";
-  e.channel = "motor-de";
-  e.severity = severity;
-  e.state = "unacknowledged";
-  e.previous_state = "normal";
-  e.cause = "condition";
-  e.value = 0.25;
-  e.threshold = 0.2;
-  return e;
-}
+using namespace std::chrono_literals;
 
 // A local server that records POST bodies; answers `status` (changeable).
 class TestServer {
@@ -117,8 +105,8 @@ TEST(NotifierTest, WebhookToAServerThatIsDownFailsWithoutBlockingThePoster) {
 TEST(NotifierTest, SeverityFilterSkipsWarningsForACriticalOnlySink) {
   TestServer server;
   Notifier n(one(make_webhook_sink({server.url(), 2000ms, 0, "critical"})));
-  n.post(sample_event("warning"));
-  n.post(sample_event("critical"));
+  n.post(sample_event("de-bpfo", "warning"));
+  n.post(sample_event("de-bpfo", "critical"));
   ASSERT_TRUE(n.wait_idle(5s));
   EXPECT_EQ(server.bodies().size(), 1u);
 }
