@@ -295,23 +295,16 @@ struct WebServer::Impl : public http::StatusProvider,
   // A rig run that changed (another pipeline, a chain counting periods from 0 again), a time
   // that went backwards or a changed bin layout or unit starts the history over.
   void record_spectra(const Rig& rig, const pipeline::RigLive& live) {
-    const config::RigConfig* rc = rig_config(rig.name);
     for (const pipeline::ChannelLive& ch : live.channels) {
-      bool vibration = false;
-      if (rc) {
-        for (const auto& c : rc->channels) vibration |= c.name == ch.name && c.role != config::ChannelRole::kTach;
-      }
-      if (!vibration) continue;
+      if (ch.power.empty() || ch.periods == 0) continue;  // a tach channel, or no spectrum yet
       std::lock_guard lock(history_mu);
       ChannelHistory& h = history[ch.name];
       const bool same_run = h.run == rig.pipeline.get() && ch.periods >= h.periods;
       const bool same_layout = ch.power.size() == h.num_bins && ch.bin_hz == h.bin_hz && ch.unit == h.unit;
-      if (!h.rows.empty() && (!same_run || !same_layout || ch.power.empty() || ch.t < h.rows.back().t)) {
-        h.rows.clear();
-      }
+      if (!h.rows.empty() && (!same_run || !same_layout || ch.t < h.rows.back().t)) h.rows.clear();
       h.run = rig.pipeline.get();
       h.periods = ch.periods;
-      if (ch.power.empty() || (!h.rows.empty() && ch.t <= h.rows.back().t)) continue;
+      if (!h.rows.empty() && ch.t <= h.rows.back().t) continue;
       if (h.rows.empty()) {
         h.unit = ch.unit;
         h.bin_hz = ch.bin_hz;
