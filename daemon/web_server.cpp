@@ -162,12 +162,6 @@ struct WebServer::Impl : public http::StatusProvider,
     return ReaderLease{this, std::move(r).value()};
   }
   std::string db_file() const { return db_path(cfg); }
-  const config::RigConfig* rig_config(const std::string& rig) const {
-    for (const auto& r : cfg.rigs) {
-      if (r.name == rig) return &r;
-    }
-    return nullptr;
-  }
 
   // ---- StatusProvider ----
   http::StatusInfo status() override {
