@@ -20,6 +20,7 @@
 #include "tonewarden/dsp/fft.h"
 #include "tonewarden/notify/mqtt_sink.h"
 #include "tonewarden/notify/notifier.h"
+#include "tonewarden/pipeline/evidence_recorder.h"
 #include "reload.h"
 #include "web_server.h"
 
@@ -108,7 +109,9 @@ class EventFanout : public pipeline::RigEventSink {
     web_->on_alarm_event(rig, e, evidence);
     if (notifier_->num_sinks() == 0) return;
     notify::NotifyEvent n = notify::make_notify_event(rig, e);
-    if (!evidence.empty()) n.evidence = data_dir_ + "/" + std::string(evidence);
+    if (!evidence.empty()) {
+      if (auto path = pipeline::resolve_evidence_path(data_dir_, evidence)) n.evidence = *path;
+    }
     notifier_->post(std::move(n));
   }
   void on_readings(const std::string& rig, const track::ReadingSet& r) override {

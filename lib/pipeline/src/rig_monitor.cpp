@@ -24,7 +24,8 @@ store::AlarmState to_store_state(alarm::AlarmState s) {
   return store::AlarmState::kNormal;
 }
 
-// "readings of CHANNEL: a, b, c" for the channel (or target) a bad reading name starts with.
+// "readings there: a, b, c": the readings that share a bad reading name's channel (or target)
+// prefix, so the message shows what the rule could have read.
 std::string reading_hint(const track::ReadingSet& readings, const std::string& wanted) {
   const std::string prefix = wanted.substr(0, wanted.rfind('.') + 1);
   std::string list;
