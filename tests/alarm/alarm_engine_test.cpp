@@ -304,8 +304,8 @@ TEST(AlarmEngineTest, CommandsFromAnotherThreadAreAppliedByEvaluate) {
 namespace tonewarden::alarm {
 namespace {
 
-// A reload replaces the engine: the state table (ISA-18.2) says an acknowledged alarm whose
-// condition still holds stays acknowledged; only a change of condition makes an event.
+// A reload replaces the engine. In the ISA-18.2 state model (from memory) an acknowledged alarm
+// whose condition still holds stays acknowledged; only a change of condition makes an event.
 TEST(AlarmEngineCarryOverTest, AcknowledgedAlarmStaysAcknowledgedUnderNewLevels) {
   EngineHarness before({above_rule(1.0, 2.0)});
   ASSERT_EQ(before.step(1.5, 0).size(), 1u);  // normal -> unacknowledged (warning)

@@ -21,7 +21,7 @@ std::vector<std::string> mqtt_messages(const std::string& lines) {
 
 TEST(ConfigMqttCheckTest, WildcardsAndReservedPrefixesAreRefusedAtTheirValue) {
   // Expected: MQTT topic names carry no '+' or '#', and '$' topics belong to the broker
-  // (MQTT 3.1.1, sections 4.7.1 and 4.7.2).
+  // (MQTT 3.1.1, sections 4.7.1 and 4.7.2; section numbers from memory).
   EXPECT_EQ(mqtt_messages("enabled = true\ntopic_prefix = \"plant/+\"\n"),
             std::vector<std::string>{"m.toml:17:16: notify.mqtt.topic_prefix: topic_prefix \"plant/+\" must not "
                                      "contain the wildcards '+' or '#'"});

@@ -243,7 +243,7 @@ TEST_F(HttpServerTest, BrowsersGetGzipEvenWhenTheyOfferBrotli) {
     EXPECT_EQ(r->status, 200) << offer;
     EXPECT_EQ(r->get_header_value("Content-Encoding"), "gzip") << offer;
     ASSERT_GE(r->body.size(), 2u);
-    EXPECT_EQ(static_cast<unsigned char>(r->body[0]), 0x1f) << offer;  // gzip magic (RFC 1952)
+    EXPECT_EQ(static_cast<unsigned char>(r->body[0]), 0x1f) << offer;  // gzip ID1 ID2 (RFC 1952, from memory)
     EXPECT_EQ(static_cast<unsigned char>(r->body[1]), 0x8b) << offer;
   }
   // Brotli alone: sent as it is, not compressed.

@@ -2,7 +2,7 @@
 // retained online/offline status and the Last Will, queueing while the broker is down with
 // drop-oldest, the readings rate limit, password files, and clear errors for bad settings.
 // Expected values come from the MQTT 3.1.1 rules (OASIS standard: §4.7 topic names, §3.1.2.5
-// Will, §3.3.1.3 RETAIN) and from the events and settings each test builds.
+// Will, §3.3.1.3 RETAIN; section numbers from memory) and from the events and settings each test builds.
 #include "tonewarden/notify/mqtt_sink.h"
 
 #include <gtest/gtest.h>
