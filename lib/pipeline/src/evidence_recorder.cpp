@@ -3,6 +3,7 @@
 
 #include <algorithm>
 #include <atomic>
+#include <chrono>
 #include <cmath>
 #include <condition_variable>
 #include <cstdio>
@@ -27,6 +28,7 @@ namespace {
 constexpr size_t kMaxChannels = 8;  // FLAC via the sound-file writer
 constexpr double kMaxSeconds = 120;
 constexpr size_t kMaxRulesPerClip = 64;
+constexpr auto kWriterPoll = std::chrono::milliseconds(100);  // writer re-checks a clip this often
 
 bool is_safe_char(char ch) {
   return (ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') || (ch >= '0' && ch <= '9') ||
@@ -193,7 +195,7 @@ void EvidenceRecorder::on_block(std::span<const std::span<const float>> volts,
     if (s.active->frames_ready.load(std::memory_order_relaxed) >= s.active->total_frames) {
       s.complete_active("complete");
     } else {
-      { std::lock_guard lock(s.mu); }  // the writer is either waiting or will see the frames
+      // No lock here: a wake-up the writer misses costs it at most kWriterPoll.
       s.cv.notify_all();
     }
   }
@@ -317,7 +319,7 @@ bool EvidenceRecorder::Impl::write_clip(Clip& clip) {
     size_t ready = 0;
     {
       std::unique_lock lock(mu);
-      cv.wait(lock, [&] {
+      cv.wait_for(lock, kWriterPoll, [&] {
         return clip.complete.load(std::memory_order_acquire) ||
                clip.frames_ready.load(std::memory_order_acquire) > done;
       });
